@@ -1,0 +1,98 @@
+//! The one fit-report struct that feeds the text report, `--json`, `-o FIT.json` and the
+//! material files. Field names are a contract (issue: fitting engine, `--json`).
+
+use serde::{Deserialize, Serialize};
+use std::collections::BTreeMap;
+
+/// A fitted value with its standard error (NaN stderr is written as null).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct Estimate {
+    pub value: f64,
+    pub stderr: Option<f64>,
+}
+
+/// One fitted term: its kind and its named parameters.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct TermReport {
+    pub kind: String,
+    pub params: BTreeMap<String, Estimate>,
+}
+
+/// Goodness of fit. `points` counts real numbers fitted: 2 × frequencies for complex data.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct FitStats {
+    pub cost: f64,
+    pub rms_rel: f64,
+    pub max_rel: f64,
+    pub chi2_reduced: f64,
+    pub aic: f64,
+    pub bic: f64,
+    pub points: usize,
+    pub iterations: usize,
+}
+
+/// Lin-KK result (PHYSICS.md §5).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct KkReport {
+    pub pass: bool,
+    /// RMS of the relative residuals of the Lin-KK fit.
+    pub residual_rms: f64,
+    /// Largest relative residual.
+    pub residual_max: f64,
+    /// Number of Debye basis terms used.
+    pub m: usize,
+    /// Under/over-fitting measure μ_c at the chosen M.
+    pub mu_c: f64,
+}
+
+/// Where one source sweep came from and what was done to it.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, Default)]
+pub struct SourceProvenance {
+    pub file: String,
+    pub sha256: String,
+    pub method: Option<String>,
+    pub core: String,
+    pub turns: f64,
+    pub corrections: Vec<String>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub temperature_c: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub notes: Option<String>,
+}
+
+/// The residual at one frequency, relative complex error (model − measured)/|measured|.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct ResidualPoint {
+    pub freq_hz: f64,
+    pub re: f64,
+    pub im: f64,
+}
+
+/// One fit, as printed with `--json` (one line) and written with `-o`.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct FitReport {
+    pub source: String,
+    pub model: String,
+    pub mu_inf: Estimate,
+    pub terms: Vec<TermReport>,
+    pub correlation: Vec<Vec<f64>>,
+    pub stats: FitStats,
+    pub f_min_hz: f64,
+    pub f_max_hz: f64,
+    pub kk: KkReport,
+    pub warnings: Vec<String>,
+    /// Runner-up model and ΔBIC when the model was chosen automatically.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub runner_up: Option<RunnerUp>,
+    /// Provenance and residuals: written with `-o` for the library, omitted from `--json`.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub provenance: Vec<SourceProvenance>,
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub residuals: Vec<ResidualPoint>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct RunnerUp {
+    pub model: String,
+    pub delta_bic: f64,
+}

@@ -1,0 +1,1 @@
+//! Measured and fitted μ′, μ″ with a residual panel. OWNER: fit-pipeline helper.
