@@ -1,6 +1,7 @@
 //! Plots (SVG/PNG through plotters). Functions take values and one output path; nothing else.
 
 pub mod fit_plot;
+pub mod font;
 pub mod mu_plot;
 
 crate::stage_error!(
