@@ -70,7 +70,11 @@ pub fn ring_effective(h: impl Fn(f64) -> f64, r1: f64, r2: f64, breaks: &[f64]) 
     let i1 = integrate_zones(|r| h(r) / r, r1, r2, breaks);
     let i2 = integrate_zones(|r| h(r) / (r * r), r1, r2, breaks);
     let area = integrate_zones(&h, r1, r2, breaks);
-    Effective { c1: TAU / i1, c2: TAU * i2 / i1.powi(3), a_min: area }
+    Effective {
+        c1: TAU / i1,
+        c2: TAU * i2 / i1.powi(3),
+        a_min: area,
+    }
 }
 
 #[cfg(test)]
