@@ -22,11 +22,11 @@ impl Term {
         let x = f_hz / self.f_hz;
         let one = C64::new(1.0, 0.0);
         if self.kind == TermKind::Lorentz {
-            let d = C64::new(1.0 - x * x, self.damping * x);
-            let t = self.delta_mu / d;
-            grad[0] = one / d;
-            grad[1] = t * x * C64::new(-2.0 * x, self.damping) / (d * self.f_hz);
-            grad[2] = -t * C64::new(0.0, x) / d;
+            let inv = one / C64::new(1.0 - x * x, self.damping * x);
+            let t = self.delta_mu * inv;
+            grad[0] = inv;
+            grad[1] = t * inv * C64::new(-2.0 * x * x, self.damping * x) / self.f_hz;
+            grad[2] = -t * inv * C64::new(0.0, x);
             return t;
         }
         let (alpha, beta) = match self.kind {
@@ -35,15 +35,31 @@ impl Term {
             TermKind::ColeDavidson => (1.0, self.beta),
             _ => (self.alpha, self.beta),
         };
-        let u = C64::from_polar(x.powf(alpha), FRAC_PI_2 * alpha);
+        // (jx)^α on the principal branch; α = 1 (Debye, Cole–Davidson) needs no transcendentals.
+        let u = if alpha == 1.0 {
+            C64::new(0.0, x)
+        } else {
+            C64::from_polar(x.powf(alpha), FRAC_PI_2 * alpha)
+        };
         let one_u = one + u;
-        let inv = if beta == 1.0 { one / one_u } else { one_u.powf(-beta) };
+        let inv_one_u = one / one_u;
+        let inv = if beta == 1.0 {
+            inv_one_u
+        } else {
+            one_u.powf(-beta)
+        };
         let t = self.delta_mu * inv;
-        let u_over = u / one_u;
+        let u_over = u * inv_one_u;
         grad[0] = inv;
-        grad[1] = t * (alpha * beta / self.f_hz) * u_over;
+        grad[1] = t * u_over * (alpha * beta / self.f_hz);
         // d/dα of (jx)^α is (jx)^α·ln(jx); at x = 0 the product u·ln x tends to 0.
-        let d_alpha = || if x > 0.0 { -t * beta * u_over * C64::new(x.ln(), FRAC_PI_2) } else { C64::new(0.0, 0.0) };
+        let d_alpha = || {
+            if x > 0.0 {
+                -t * u_over * C64::new(beta * x.ln(), beta * FRAC_PI_2)
+            } else {
+                C64::new(0.0, 0.0)
+            }
+        };
         let d_beta = || -t * one_u.ln();
         match self.kind {
             TermKind::ColeCole => grad[2] = d_alpha(),
@@ -52,7 +68,7 @@ impl Term {
                 grad[2] = d_alpha();
                 grad[3] = d_beta();
             }
-            _ => {}
+            TermKind::Debye | TermKind::Lorentz => {}
         }
         t
     }
@@ -124,22 +140,33 @@ mod tests {
         for &f in &[1.0e4, 2.9e6, 1.1e7, 6.0e7, 9.1e7, 2.0e9] {
             let (mu, grad) = model.mu_and_gradient(f);
             let direct = model.mu(f);
-            assert!((mu - direct).norm() <= 1e-12 * direct.norm(), "value at {f}: {mu} vs {direct}");
+            assert!(
+                (mu - direct).norm() <= 1e-12 * direct.norm(),
+                "value at {f}: {mu} vs {direct}"
+            );
             // How much μ moves for a relative change of the most influential parameter.
-            let sensitivity = (0..p0.len()).map(|k| (grad[k] * p0[k]).norm()).fold(0.0, f64::max);
+            let sensitivity = (0..p0.len())
+                .map(|k| (grad[k] * p0[k]).norm())
+                .fold(0.0, f64::max);
             for k in 0..p0.len() {
                 let h = FD_STEP * p0[k].abs();
                 let mut up = p0.clone();
                 let mut down = p0.clone();
                 up[k] += h;
                 down[k] -= h;
-                let fd = (Model::from_params(&kinds, &up).mu(f) - Model::from_params(&kinds, &down).mu(f)) / (2.0 * h);
+                let fd = (Model::from_params(&kinds, &up).mu(f)
+                    - Model::from_params(&kinds, &down).mu(f))
+                    / (2.0 * h);
                 // Relative to the derivative itself, with a floor for derivatives that are
                 // negligible at this frequency (compared on the scale of a relative step).
                 let err = (grad[k] - fd).norm() * p0[k].abs();
                 let tol = FD_REL_TOL * (grad[k] * p0[k]).norm() + FD_FLOOR * sensitivity;
                 let name = Model::param_names(&kinds)[k];
-                assert!(err <= tol, "{name} (#{k}) at f = {f}: analytic {} vs fd {fd} (err {err:e}, tol {tol:e})", grad[k]);
+                assert!(
+                    err <= tol,
+                    "{name} (#{k}) at f = {f}: analytic {} vs fd {fd} (err {err:e}, tol {tol:e})",
+                    grad[k]
+                );
             }
         }
     }
