@@ -168,3 +168,43 @@ pub fn read_sweep(path: &Path, opts: &ReadOptions) -> Result<Sweep, IngestError>
     let sweep = sweep.map_err(|e| IngestError(e.0.in_file(path)))?;
     validate::check_sweep(sweep).map_err(|e| IngestError(e.0.in_file(path)))
 }
+
+/// Fixture correction to apply after the conversion to impedance.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub enum FixtureCorrection {
+    #[default]
+    None,
+    /// Subtract an empty-fixture sweep ([`fixture::subtract_empty`]).
+    Empty(PathBuf),
+    /// Open/short compensation ([`fixture::compensate_open_short`]).
+    OpenShort { open: PathBuf, short: PathBuf },
+}
+
+/// Everything that decides how a measurement file becomes the part's impedance; shared by every
+/// command that reads sweeps, so `ingest`, `extract` and `fit` accept the same options.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct IngestOptions {
+    pub read: ReadOptions,
+    /// None: the default for the kind of data (see [`method`]).
+    pub method: Option<Method>,
+    /// Reference impedance replacing the file's, ohms.
+    pub z0: Option<f64>,
+    pub fixture: FixtureCorrection,
+}
+
+/// Read, check and convert one file, then apply the fixture correction. Fixture files are read
+/// with the same options, method and reference as the measurement.
+pub fn ingest_file(path: &Path, opts: &IngestOptions) -> Result<ImpedanceSweep, IngestError> {
+    let as_impedance = |p: &Path| -> Result<ImpedanceSweep, IngestError> {
+        let sweep = read_sweep(p, &opts.read)?;
+        method::to_impedance(&sweep, opts.method, opts.z0).map_err(|e| IngestError(e.0.in_file(p)))
+    };
+    let meas = as_impedance(path)?;
+    match &opts.fixture {
+        FixtureCorrection::None => Ok(meas),
+        FixtureCorrection::Empty(empty) => fixture::subtract_empty(meas, &as_impedance(empty)?),
+        FixtureCorrection::OpenShort { open, short } => {
+            fixture::compensate_open_short(meas, &as_impedance(open)?, &as_impedance(short)?)
+        }
+    }
+}
