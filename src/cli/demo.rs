@@ -37,7 +37,13 @@ pub fn run(args: Args) -> Result<(), Failure> {
         Event::Warning(text) => println!("   warning: {}", text),
     };
     let summary = pipeline::run(&opts, &mut print).map_err(|e| Failure::input(e.to_string()))?;
-    println!("\nDone: {} files, {} ingested; results in {}", summary.files, summary.ingested, opts.out_dir.display());
+    println!(
+        "\nDone: {} files, {} ingested, {} permeability spectra extracted; results in {}",
+        summary.files,
+        summary.ingested,
+        summary.extracted,
+        opts.out_dir.display()
+    );
     println!("{}", CAUTION);
     if summary.failures.is_empty() {
         Ok(())

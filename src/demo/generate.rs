@@ -178,6 +178,7 @@ pub fn generate_file(plan: &Plan) -> Result<(GeneratedFile, Entry), DemoError> {
         core: plan.core.spec(),
         turns: plan.turns,
         method: plan.method.name().to_string(),
+        lead_nh: plan.lead_nh,
         date: plan.date.to_string(),
         off_spec: lot.off_spec,
         notes: plan.notes.to_string(),

@@ -1,6 +1,7 @@
 //! The manifest of `raw_measurements/`: one CSV row per file saying what was measured and how.
 //! Columns: file, material, lot, sample, core (a core spec, e.g. `toroid:od=25mm,id=15mm,h=10mm`),
-//! turns, method (reflection|series), date (ISO 8601), off_spec (true|false), notes.
+//! turns, method (reflection|series), lead_nh (the fixture's lead/loop inductance outside the core
+//! as the bench characterised it, nH), date (ISO 8601), off_spec (true|false), notes.
 
 use super::DemoError;
 use crate::error::Diagnostic;
@@ -10,7 +11,7 @@ use std::path::Path;
 /// The manifest's file name inside the measurements folder.
 pub const MANIFEST: &str = "manifest.csv";
 
-const COLUMNS: &str = "file, material, lot, sample, core, turns, method, date, off_spec, notes";
+const COLUMNS: &str = "file, material, lot, sample, core, turns, method, lead_nh, date, off_spec, notes";
 
 /// One measurement file and what is known about it.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -25,6 +26,8 @@ pub struct Entry {
     pub turns: u32,
     /// `reflection` or `series`.
     pub method: String,
+    /// Lead/loop inductance of the fixture outside the core, nH.
+    pub lead_nh: f64,
     pub date: String,
     /// True for the lot that does not meet its specification.
     pub off_spec: bool,
@@ -91,6 +94,7 @@ mod tests {
             core: "toroid:od=25mm,id=15mm,h=10mm".into(),
             turns: 2,
             method: "reflection".into(),
+            lead_nh: 24.0,
             date: "2024-11-19".into(),
             off_spec: false,
             notes: "leads, short".into(),
@@ -101,14 +105,14 @@ mod tests {
     #[test]
     fn specs_with_commas_round_trip_quoted() {
         let text = to_csv(&[entry()]).unwrap();
-        assert!(text.starts_with("file,material,lot,sample,core,turns,method,date,off_spec,notes\n"));
+        assert!(text.starts_with("file,material,lot,sample,core,turns,method,lead_nh,date,off_spec,notes\n"));
         assert!(text.contains("\"toroid:od=25mm,id=15mm,h=10mm\""));
         assert_eq!(parse(text.as_bytes()).unwrap(), vec![entry()]);
     }
 
     #[test]
     fn a_bad_row_names_its_line() {
-        let text = to_csv(&[entry()]).unwrap().replace(",2,reflection", ",two,reflection");
+        let text = to_csv(&[entry()]).unwrap().replace(",2,reflection,", ",two,reflection,");
         let err = parse(text.as_bytes()).unwrap_err();
         assert_eq!(err.0.line, Some(2), "{}", err);
         assert!(err.to_string().contains("turns a whole number"));

@@ -6,6 +6,7 @@ use super::generate;
 use super::manifest::{self, Entry};
 use super::DemoError;
 use crate::error::Diagnostic;
+use crate::extract::{self, band::hz, ExtractSetup, LeadCorrection, Measurement, MuSpectrum};
 use crate::ingest::{self, ImpedanceSweep, Method, ReadOptions};
 use std::path::{Path, PathBuf};
 
@@ -36,6 +37,8 @@ pub enum Event {
 pub struct Summary {
     pub files: usize,
     pub ingested: usize,
+    /// μ spectra extracted (one per core and fixture).
+    pub extracted: usize,
     /// `file: reason` for every file a stage could not handle.
     pub failures: Vec<String>,
 }
@@ -45,6 +48,16 @@ struct Item {
     entry: Entry,
     path: PathBuf,
     impedance: Option<ImpedanceSweep>,
+}
+
+/// Files of one core in one fixture, extracted together into one μ spectrum.
+struct Group {
+    /// Output name, e.g. `driftwood_dw2411-01_1+2t`.
+    name: String,
+    /// Indices into the items.
+    members: Vec<usize>,
+    lead: LeadCorrection,
+    spectrum: Option<MuSpectrum>,
 }
 
 /// Run the demo.
@@ -58,6 +71,8 @@ pub fn run(opts: &Options, report: &mut dyn FnMut(Event)) -> Result<Summary, Dem
         .collect();
     let mut summary = Summary { files: items.len(), ..Summary::default() };
     ingest_all(opts, &mut items, &mut summary, report)?;
+    let mut groups = plan_groups(&items);
+    extract_all(opts, &items, &mut groups, &mut summary, report)?;
     Ok(summary)
 }
 
@@ -150,20 +165,122 @@ fn ingest_one(item: &mut Item, dir: &Path) -> Result<String, String> {
     Ok(line)
 }
 
-/// A frequency in words with an SI prefix ("100 kHz", "1 GHz").
-fn hz(f: f64) -> String {
-    let (v, unit) = if f >= 1e9 {
-        (f / 1e9, "GHz")
-    } else if f >= 1e6 {
-        (f / 1e6, "MHz")
-    } else if f >= 1e3 {
-        (f / 1e3, "kHz")
-    } else {
-        (f, "Hz")
+/// Windings of the same core, method and leads but different turns are extracted together with
+/// the lead inductance solved (it does not scale with N², the core term does); any other file is
+/// extracted alone with the fixture's lead inductance from the manifest.
+fn plan_groups(items: &[Item]) -> Vec<Group> {
+    let mut groups: Vec<Group> = Vec::new();
+    let key = |e: &Entry| (e.sample.clone(), e.core.clone(), e.method.clone(), e.lead_nh.to_bits());
+    for (i, item) in items.iter().enumerate() {
+        if item.impedance.is_none() {
+            continue;
+        }
+        let same = groups.iter_mut().find(|g| {
+            let first = &items[g.members[0]].entry;
+            key(first) == key(&item.entry) && g.members.iter().all(|&m| items[m].entry.turns != item.entry.turns)
+        });
+        match same {
+            Some(g) => g.members.push(i),
+            None => groups.push(Group {
+                name: String::new(),
+                members: vec![i],
+                lead: LeadCorrection::Stated(item.entry.lead_nh * 1e-9),
+                spectrum: None,
+            }),
+        }
+    }
+    for g in groups.iter_mut() {
+        let first = &items[g.members[0]].entry;
+        let turns: Vec<String> = g.members.iter().map(|&m| items[m].entry.turns.to_string()).collect();
+        g.name = format!("{}_{}_{}t", first.material, first.sample.to_ascii_lowercase(), turns.join("+"));
+        if g.members.len() > 1 {
+            g.lead = LeadCorrection::Solve;
+        }
+    }
+    groups
+}
+
+/// Step 3: μ′/μ″ of every core, with its valid band, written as `freq_hz,mu_prime,mu_double_prime`.
+fn extract_all(
+    opts: &Options,
+    items: &[Item],
+    groups: &mut [Group],
+    summary: &mut Summary,
+    report: &mut dyn FnMut(Event),
+) -> Result<(), DemoError> {
+    let dir = opts.out_dir.join("mu");
+    report(Event::Step(format!(
+        "Extract: impedance -> complex permeability with the manifest's core and turns -> {}",
+        dir.display()
+    )));
+    std::fs::create_dir_all(&dir).map_err(|e| io_error(&dir, "create the folder", e))?;
+    for g in groups.iter_mut() {
+        match extract_one(items, g, &dir) {
+            Ok(lines) => {
+                summary.extracted += 1;
+                let mut lines = lines.into_iter();
+                if let Some(first) = lines.next() {
+                    report(Event::Detail(first));
+                }
+                for w in lines {
+                    report(Event::Warning(format!("{}: {}", g.name, w)));
+                }
+            }
+            Err(reason) => {
+                report(Event::Warning(format!("{}: not extracted: {}", g.name, reason)));
+                summary.failures.push(format!("{}: {}", g.name, reason));
+            }
+        }
+    }
+    Ok(())
+}
+
+/// Extract one group; returns its summary line followed by the extraction's warnings.
+fn extract_one(items: &[Item], g: &mut Group, dir: &Path) -> Result<Vec<String>, String> {
+    let first = &items[g.members[0]].entry;
+    let core = crate::geometry::Core::parse(&first.core).map_err(|e| e.to_string())?;
+    let measurements: Vec<Measurement> = g
+        .members
+        .iter()
+        .filter_map(|&m| {
+            items[m].impedance.clone().map(|sweep| Measurement { sweep, turns: items[m].entry.turns as f64 })
+        })
+        .collect();
+    let setup = ExtractSetup { lead: g.lead, ..ExtractSetup::new(core) };
+    let s = extract::extract(&measurements, &setup).map_err(|e| e.to_string())?;
+    crate::fsutil::write_atomic(&dir.join(format!("{}.csv", g.name)), extract::write_mu_table(&s).as_bytes())
+        .map_err(|e| e.to_string())?;
+    let lead = match (&s.l_lead, g.lead) {
+        (Some(l), LeadCorrection::Solve) => {
+            format!("lead solved {:.1} nH ({:.1}..{:.1})", l.henry * 1e9, l.p16 * 1e9, l.p84 * 1e9)
+        }
+        (Some(l), _) => format!("lead {:.0} nH from the manifest", l.henry * 1e9),
+        (None, _) => "no lead correction".to_string(),
     };
-    let text = super::formats::significant(v, 3);
-    let text = if text.contains('.') { text.trim_end_matches('0').trim_end_matches('.') } else { &text };
-    format!("{} {}", text, unit)
+    let valid = s.valid_indices();
+    let peak = valid.iter().copied().max_by(|&a, &b| s.mu_double_prime(a).total_cmp(&s.mu_double_prime(b)));
+    let mut line = format!(
+        "{:<34} {}; band {}..{}; μ′ {:.0} at {}",
+        g.name,
+        lead,
+        hz(s.valid.0),
+        hz(s.valid.1),
+        valid.first().map(|&i| s.mu[i].re).unwrap_or(f64::NAN),
+        hz(s.valid.0)
+    );
+    if let Some(i) = peak {
+        line += &format!("; peak μ″ {:.0} at {}", s.mu_double_prime(i), hz(s.freq_hz[i]));
+    }
+    if let (Some(f), Some(c)) = (s.f_sr, s.c_p) {
+        line += &format!("; self-resonance {} (C_p {:.1} pF)", hz(f), c * 1e12);
+    }
+    let mut lines = vec![line];
+    // Reading warnings were shown at ingest; keep the extraction's own.
+    lines.extend(
+        s.warnings.iter().filter(|w| !measurements.iter().any(|m| w.starts_with(&m.sweep.source.file_name()))).cloned(),
+    );
+    g.spectrum = Some(s);
+    Ok(lines)
 }
 
 /// An impedance magnitude in ohms with three significant digits.

@@ -52,7 +52,7 @@ pub fn render(entries: &[Entry]) -> String {
         "Fixtures add lead inductance (tens of nH) and, on wound toroids, winding capacitance; the analyser\n",
     );
     out.push_str("adds trace noise on every S-parameter, so low impedances read by reflection are noisy.\n\n");
-    out.push_str("## Files\n\n`manifest.csv` describes every file (core spec, turns, method, lot, sample, date).\n\n");
+    out.push_str("## Files\n\n`manifest.csv` describes every file (core spec, turns, method, fixture lead inductance, lot, sample, date).\n\n");
     out.push_str("| file | sample | core | turns | method | export style |\n|---|---|---|---|---|---|\n");
     for (e, plan) in entries.iter().zip(scenario::plans()) {
         out.push_str(&format!(
