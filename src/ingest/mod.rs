@@ -93,7 +93,9 @@ pub struct Sweep {
 pub enum Method {
     /// One-port: Z = Z0(1+S11)/(1−S11).
     Reflection,
-    /// Two-port, part in series between the ports: Z = (Z01+Z02)(1/S21 − 1).
+    /// Two-port, part in series between the ports: Z = 2√(Z01·Z02)/S21 − (Z01 + Z02) for
+    /// power-wave S at real references (Touchstone), i.e. 2Z0(1 − S21)/S21 for equal ports.
+    /// The (Zs + ZL)(1/S21 − 1) form holds for a voltage insertion ratio, not for Touchstone S21.
     Series,
     /// Two-port, part shunting the line to ground: Z = Z0·S21/(2(1−S21)).
     Shunt,
