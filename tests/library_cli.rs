@@ -126,6 +126,16 @@ fn publish_refuses_a_fit_line_without_provenance_and_writes_nothing() {
         out.stderr
     );
     assert!(!s.path("lib").exists());
+    let mut report = fx::good_fit();
+    report.provenance[0].sha256 = report.provenance[0].sha256.to_uppercase();
+    fx::write_fit(s.dir.path(), "upper.json", &report);
+    let out = run(&s, &["publish", "upper.json", "--material", "ni-a"]).failed();
+    assert!(
+        out.stderr.contains("cannot be published") && out.stderr.contains("/provenance/0/sha256"),
+        "{}",
+        out.stderr
+    );
+    assert!(!s.path("lib").exists());
     s.write("broken.json", "{\"source\": 1");
     let out = run(&s, &["publish", "broken.json", "--material", "ni-a"]).failed();
     assert!(

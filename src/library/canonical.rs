@@ -111,8 +111,26 @@ mod tests {
         let text = pretty_bytes(&doc);
         let back: Value = serde_json::from_slice(&text).unwrap();
         assert!(check_seal(&back).is_ok());
-        let edited = String::from_utf8(text).unwrap().replace("0.1", "0.2");
+        let edited = String::from_utf8(text).unwrap().replacen("0.1", "0.2", 1);
         let back: Value = serde_json::from_str(&edited).unwrap();
         assert!(check_seal(&back).is_err());
+    }
+
+    /// Every finite double must survive write → parse exactly, or a file's hash could fail on
+    /// reading (serde_json needs its `float_roundtrip` feature for this).
+    #[test]
+    fn floats_round_trip_exactly_through_the_written_text() {
+        let mut state = 0x2545_F491_4F6C_DD1D_u64;
+        let values: Vec<f64> = (0..20_000)
+            .filter_map(|_| {
+                state ^= state << 13;
+                state ^= state >> 7;
+                state ^= state << 17;
+                Some(f64::from_bits(state)).filter(|x| x.is_finite())
+            })
+            .collect();
+        let doc = seal(serde_json::json!({ "v": values }));
+        let back: Value = serde_json::from_slice(&pretty_bytes(&doc)).unwrap();
+        assert!(check_seal(&back).is_ok());
     }
 }

@@ -92,6 +92,7 @@ pub fn io_error(what: &str, path: &Path, e: std::io::Error) -> LibraryError {
             "the library folder is not writable by you; check its permissions"
         }
         std::io::ErrorKind::NotFound => "check the --library folder and the material id",
+        std::io::ErrorKind::ReadOnlyFilesystem => "the library is on a read-only file system",
         std::io::ErrorKind::StorageFull => "the disk is full; free space and run the command again",
         _ => "check that the folder exists, is writable and has free space",
     };

@@ -160,3 +160,45 @@ impl Material {
         format!("{}@{}", self.material, self.version)
     }
 }
+
+/// The committed example material file (written by `mucurve publish`), shared by unit tests.
+#[cfg(test)]
+pub(crate) const EXAMPLE_TEXT: &str = include_str!("../../tests/reference/material_example.json");
+
+/// [`EXAMPLE_TEXT`] read and checked like any library file.
+#[cfg(test)]
+pub(crate) fn example_material() -> Material {
+    let doc: Value = serde_json::from_str(EXAMPLE_TEXT).unwrap();
+    Material::from_document(&doc, Path::new("material_example.json")).unwrap()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The self-hash recomputed independently by Python's hashlib over its own canonical JSON
+    /// (tests/reference/material_schema_cases.py) equals the stored one and this crate's.
+    #[test]
+    fn example_hash_agrees_with_python_hashlib() {
+        let cases: Value = serde_json::from_str(include_str!(
+            "../../tests/reference/material_schema_cases.json"
+        ))
+        .unwrap();
+        let doc: Value = serde_json::from_str(EXAMPLE_TEXT).unwrap();
+        assert_eq!(cases["example_sha256_python"], doc["sha256"]);
+        assert_eq!(
+            canonical::content_hash(&doc),
+            cases["example_sha256_python"].as_str().unwrap()
+        );
+    }
+
+    #[test]
+    fn example_round_trips_through_the_struct_unchanged() {
+        let m = example_material();
+        assert_eq!(
+            m.to_document().unwrap(),
+            serde_json::from_str::<Value>(EXAMPLE_TEXT).unwrap()
+        );
+        assert_eq!(m.to_model().unwrap().spec(), m.model.spec);
+    }
+}

@@ -5,7 +5,7 @@ use super::layout::{material_dir, version_path, versions};
 use super::lock::LibraryLock;
 use super::material::{FitFile, Material};
 use super::query::Library;
-use super::{canonical, schema, store, timefmt, validate_id, LibraryError};
+use super::{canonical, store, timefmt, validate_id, LibraryError};
 use crate::error::Diagnostic;
 use crate::fit::report::FitReport;
 use std::path::{Path, PathBuf};
@@ -37,9 +37,15 @@ impl Library {
             Material::from_fit(fit, fit_file, id, note.filter(|n| !n.trim().is_empty()));
         material.version = 1;
         material.created = timefmt::now_rfc3339();
-        let problems = schema::validate(&material.to_document()?);
-        if !problems.is_empty() {
-            return Err(Diagnostic::new(format!("the fit cannot be published: {}", problems.join("; ")))
+        // Read the would-be file back exactly as `verify` will: schema, self-hash, struct.
+        let bytes = canonical::pretty_bytes(&material.to_document()?);
+        let reread = serde_json::from_slice(&bytes)
+            .map_err(|e| Diagnostic::new(format!("cannot re-read the material document: {}", e)));
+        if let Err(e) = reread
+            .map_err(LibraryError)
+            .and_then(|doc| Material::from_document(&doc, fit_path))
+        {
+            return Err(Diagnostic::new(format!("the fit cannot be published: {}", e.0.message))
                 .file(fit_path)
                 .hint("the fit report must hold finite numbers, SHA-256 hashes in lower-case hex and at least one term")
                 .into());

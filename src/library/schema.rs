@@ -270,3 +270,36 @@ mod tests {
         assert!(json_eq(&json!(1), &json!(1.0)));
     }
 }
+
+/// Verdicts of Python's `jsonschema` (Draft 2020-12 validator, PyPI) on the committed example
+/// and single-change variants of it (tests/reference/material_schema_cases.py): this validator
+/// must agree on every one.
+#[cfg(test)]
+mod jsonschema_reference {
+    use super::*;
+
+    #[test]
+    fn agrees_with_python_jsonschema_on_every_reference_case() {
+        let cases: Value = serde_json::from_str(include_str!(
+            "../../tests/reference/material_schema_cases.json"
+        ))
+        .unwrap();
+        let cases = cases["cases"].as_array().unwrap();
+        assert!(
+            cases.len() >= 30
+                && cases.iter().any(|c| c["valid"] == true)
+                && cases.iter().any(|c| c["valid"] == false)
+        );
+        for c in cases {
+            let errors = validate(&c["document"]);
+            assert_eq!(
+                errors.is_empty(),
+                c["valid"].as_bool().unwrap(),
+                "case '{}': ours {:?}, jsonschema {}",
+                c["name"],
+                errors,
+                c["errors"]
+            );
+        }
+    }
+}

@@ -175,3 +175,82 @@ pub fn rms_magnitude(points: &[ResidualPoint]) -> f64 {
         / points.len() as f64)
         .sqrt()
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::library::material::example_material;
+
+    fn failed(m: &Material) -> Vec<&'static str> {
+        failures(m).iter().map(|r| r.rule).collect()
+    }
+
+    #[test]
+    fn the_example_meets_every_rule() {
+        assert_eq!(failed(&example_material()), Vec::<&str>::new());
+    }
+
+    /// The limits are inclusive: rms_rel = 2 % and max_rel = 10 % pass, anything above fails.
+    #[test]
+    fn each_rule_fails_on_its_own() {
+        let base = example_material();
+        let mut m = base.clone();
+        m.kk.pass = false;
+        assert_eq!(failed(&m), ["kk-pass"]);
+        let mut m = base.clone();
+        m.warnings.push("Snoek product above the limit".into());
+        assert_eq!(failed(&m), ["no-warnings"]);
+        let mut m = base.clone();
+        m.stats.rms_rel = RMS_REL_MAX;
+        m.stats.max_rel = MAX_REL_MAX;
+        assert!(failed(&m).is_empty());
+        m.stats.rms_rel = 0.0201;
+        m.stats.max_rel = 0.1001;
+        assert_eq!(failed(&m), ["residual-rms", "residual-max"]);
+        let mut m = base.clone();
+        m.provenance[1].sha256 = m.provenance[0].sha256.clone();
+        assert_eq!(failed(&m), ["two-samples"]);
+    }
+
+    /// Two runs with |r| = 3 % and 2.5 % everywhere: d sums to 5.5 % > 5 %; at 2.4 % and 2.5 %
+    /// the sum is 4.9 % and passes.
+    #[test]
+    fn samples_agree_uses_the_per_source_rms_of_the_residuals() {
+        let mut m = example_material();
+        let half = m.residuals.len() / 2;
+        let set = |m: &mut Material, a: f64, b: f64| {
+            for (i, r) in m.residuals.iter_mut().enumerate() {
+                let mag = if i < half { a } else { b };
+                (r.re, r.im) = (mag * 0.6, -mag * 0.8);
+            }
+        };
+        set(&mut m, 0.03, 0.025);
+        assert_eq!(failed(&m), ["samples-agree"]);
+        set(&mut m, 0.024, 0.025);
+        assert!(failed(&m).is_empty());
+        // Residuals merged into one frequency-sorted list cannot be attributed to sources.
+        m.residuals.sort_by(|a, b| a.freq_hz.total_cmp(&b.freq_hz));
+        m.residuals.dedup_by(|a, b| a.freq_hz == b.freq_hz);
+        let detail = evaluate(&m)
+            .into_iter()
+            .find(|r| r.rule == "samples-agree")
+            .unwrap();
+        assert!(
+            !detail.pass && detail.detail.contains("cannot attribute"),
+            "{}",
+            detail.detail
+        );
+    }
+
+    #[test]
+    fn runs_split_where_frequency_stops_rising() {
+        let p = |f: f64| ResidualPoint {
+            freq_hz: f,
+            re: 0.0,
+            im: 0.0,
+        };
+        let pts = [p(1.0), p(2.0), p(3.0), p(1.0), p(2.0), p(2.0)];
+        let lens: Vec<usize> = source_runs(&pts).iter().map(|r| r.len()).collect();
+        assert_eq!(lens, [3, 2, 1]);
+    }
+}

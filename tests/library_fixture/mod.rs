@@ -34,11 +34,16 @@ pub fn debye(delta_mu: f64, f_hz: f64) -> Model {
 
 /// A clean fit of `model` to one source per entry of `offsets` (source k measured μ·(1 + o_k)).
 pub fn fit(model: &Model, offsets: &[f64]) -> FitReport {
+    fit_n(model, offsets, POINTS)
+}
+
+/// [`fit`] with `points` frequencies per source (large values make big files).
+pub fn fit_n(model: &Model, offsets: &[f64], points: usize) -> FitReport {
     let mut residuals = Vec::new();
     let mut provenance = Vec::new();
     for (k, &o) in offsets.iter().enumerate() {
-        for i in 0..POINTS {
-            let f = F_MIN * (F_MAX / F_MIN).powf(i as f64 / (POINTS - 1) as f64);
+        for i in 0..points {
+            let f = F_MIN * (F_MAX / F_MIN).powf(i as f64 / (points - 1) as f64);
             let model_mu = model.mu(f);
             let measured = model_mu * (1.0 + o);
             let r = (model_mu - measured) / measured.norm();
