@@ -124,11 +124,6 @@ fn ingest_all(
             Ok(line) => {
                 summary.ingested += 1;
                 report(Event::Detail(line));
-                if let Some(z) = &item.impedance {
-                    for w in &z.warnings {
-                        report(Event::Warning(format!("{}: {}", item.entry.file, w)));
-                    }
-                }
             }
             Err(reason) => {
                 report(Event::Warning(format!("{}: not ingested: {}", item.entry.file, reason)));
@@ -161,6 +156,9 @@ fn ingest_one(item: &mut Item, dir: &Path) -> Result<String, String> {
         ohm(lo),
         ohm(hi)
     );
+    // The reader's warnings in short; the full text is in the sweep file's `# warning:` lines.
+    let gists: Vec<&str> = z.warnings.iter().map(|w| gist(w)).collect();
+    let line = if gists.is_empty() { line } else { format!("{}; noted: {}", line, gists.join("; ")) };
     item.impedance = Some(z);
     Ok(line)
 }
@@ -281,6 +279,11 @@ fn extract_one(items: &[Item], g: &mut Group, dir: &Path) -> Result<Vec<String>,
     );
     g.spectrum = Some(s);
     Ok(lines)
+}
+
+/// The head of a warning: up to its first comma or parenthesis ("23 of 321 points have |S11| > 1").
+fn gist(w: &str) -> &str {
+    w.split([',', '(']).next().unwrap_or(w).trim()
 }
 
 /// An impedance magnitude in ohms with three significant digits.
