@@ -511,3 +511,35 @@ fn library_api_loads_published_versions() {
         .is_err());
     assert!(Path::new(&lib.version_path("ni-a", 1)).is_file());
 }
+
+/// With SOURCE_DATE_EPOCH (reproducible-builds.org convention) set, the same fit published into
+/// two libraries gives byte-identical files; 1234567890 s is 2009-02-13T23:31:30Z.
+#[test]
+fn source_date_epoch_makes_published_files_reproducible() {
+    let s = Scratch::new();
+    fx::write_fit(s.dir.path(), "fit.json", &fx::good_fit());
+    for lib in ["one", "two"] {
+        let out = std::process::Command::new(env!("CARGO_BIN_EXE_mucurve"))
+            .args([
+                "publish",
+                "fit.json",
+                "--material",
+                "ni-a",
+                "--library",
+                lib,
+            ])
+            .current_dir(s.dir.path())
+            .env("SOURCE_DATE_EPOCH", "1234567890")
+            .output()
+            .unwrap();
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+    }
+    let one = std::fs::read(s.path("one/ni-a/v0001.json")).unwrap();
+    assert_eq!(one, std::fs::read(s.path("two/ni-a/v0001.json")).unwrap());
+    let doc: Value = serde_json::from_slice(&one).unwrap();
+    assert_eq!(doc["created"], "2009-02-13T23:31:30Z");
+}

@@ -79,8 +79,17 @@ pub enum Sub {
     Verify,
 }
 
+/// The library at `dir`; new versions and events are stamped with `SOURCE_DATE_EPOCH` (the
+/// reproducible-builds convention, Unix seconds) when it is set, else with the clock.
+pub fn open(dir: &std::path::Path) -> Library {
+    let fixed = std::env::var("SOURCE_DATE_EPOCH")
+        .ok()
+        .and_then(|s| s.trim().parse::<i64>().ok());
+    Library::new(dir).with_fixed_time(fixed)
+}
+
 pub fn run(args: Args) -> Result<(), Failure> {
-    let lib = Library::new(&args.library);
+    let lib = open(&args.library);
     match args.command {
         Sub::List { status, json } => list(
             &lib,

@@ -1,7 +1,7 @@
 //! `mucurve publish FIT.json --material ID [--library DIR] [--note TEXT]`.
 
 use super::Failure;
-use crate::library::{fit_input::read_fit_file, layout::DEFAULT_LIBRARY, validate_id, Library};
+use crate::library::layout::DEFAULT_LIBRARY;
 use std::path::PathBuf;
 
 #[derive(Debug, clap::Args)]
@@ -20,16 +20,8 @@ pub struct Args {
 }
 
 pub fn run(args: Args) -> Result<(), Failure> {
-    // The id is checked before the fit file is even read: a refused id writes nothing.
-    validate_id(&args.material)?;
-    let (fit, fit_file) = read_fit_file(&args.fit)?;
-    let published = Library::new(&args.library).publish(
-        &fit,
-        fit_file,
-        &args.fit,
-        &args.material,
-        args.note,
-    )?;
+    let published =
+        super::library::open(&args.library).publish_file(&args.fit, &args.material, args.note)?;
     if published.stale_temps_removed > 0 {
         eprintln!(
             "note: removed {} temporary file(s) left by an interrupted earlier write",

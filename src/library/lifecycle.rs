@@ -5,7 +5,7 @@ use super::id::VersionRef;
 use super::layout::events_path;
 use super::lock::LibraryLock;
 use super::query::Library;
-use super::{timefmt, vetting, LibraryError};
+use super::{vetting, LibraryError};
 use crate::error::Diagnostic;
 
 impl Library {
@@ -92,7 +92,7 @@ impl Library {
         let mut log: EventLog = self.log(id)?;
         let event = Event {
             seq: log.events.len() as u64 + 1,
-            at: timefmt::now_rfc3339(),
+            at: self.now(),
             action,
             version,
             by: by.trim().to_string(),

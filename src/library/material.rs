@@ -21,6 +21,9 @@ pub struct ModelJson {
     pub mu_inf: Estimate,
     pub terms: Vec<TermReport>,
     pub correlation: Vec<Vec<f64>>,
+    /// Labels of the rows and columns of `correlation`, when the fit gave them.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub correlation_params: Vec<String>,
 }
 
 /// The frequency band the model was fitted over and is valid in.
@@ -84,6 +87,7 @@ impl Material {
                 mu_inf: fit.mu_inf,
                 terms: fit.terms.clone(),
                 correlation: fit.correlation.clone(),
+                correlation_params: fit.correlation_params.clone(),
             },
             band: Band {
                 f_min_hz: fit.f_min_hz,

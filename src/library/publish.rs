@@ -1,11 +1,12 @@
 //! Publishing a fit as the next version of a material.
 
 use super::fit_input::check_publishable;
+use super::fit_input::read_fit_file;
 use super::layout::{material_dir, version_path, versions};
 use super::lock::LibraryLock;
 use super::material::{FitFile, Material};
 use super::query::Library;
-use super::{canonical, store, timefmt, validate_id, LibraryError};
+use super::{canonical, store, validate_id, LibraryError};
 use crate::error::Diagnostic;
 use crate::fit::report::FitReport;
 use std::path::{Path, PathBuf};
@@ -21,6 +22,19 @@ pub struct Published {
 }
 
 impl Library {
+    /// Read the fit file at `fit_path` and publish it as the next version of `id`. The id is
+    /// checked before the file is read.
+    pub fn publish_file(
+        &self,
+        fit_path: &Path,
+        id: &str,
+        note: Option<String>,
+    ) -> Result<Published, LibraryError> {
+        validate_id(id)?;
+        let (fit, fit_file) = read_fit_file(fit_path)?;
+        self.publish(&fit, fit_file, fit_path, id, note)
+    }
+
     /// Store `fit` as the next version of `id`. Everything that can be checked without the
     /// library (id, completeness, schema) is checked first, so a refused publish writes nothing.
     pub fn publish(
@@ -36,7 +50,7 @@ impl Library {
         let mut material =
             Material::from_fit(fit, fit_file, id, note.filter(|n| !n.trim().is_empty()));
         material.version = 1;
-        material.created = timefmt::now_rfc3339();
+        material.created = self.now();
         // Read the would-be file back exactly as `verify` will: schema, self-hash, struct.
         let bytes = canonical::pretty_bytes(&material.to_document()?);
         let reread = serde_json::from_slice(&bytes)
@@ -57,7 +71,7 @@ impl Library {
             .map_err(|e| super::layout::io_error("cannot create the material folder", &dir, e))?;
         let stale_temps_removed = store::remove_stale_temps(&dir)?;
         material.version = versions(&self.root, id)?.last().map_or(1, |v| v + 1);
-        material.created = timefmt::now_rfc3339();
+        material.created = self.now();
         let path = version_path(&self.root, id, material.version);
         store::create_new(&path, &canonical::pretty_bytes(&material.to_document()?))?;
         Ok(Published {

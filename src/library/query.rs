@@ -4,7 +4,7 @@ use super::events::{EventLog, Status};
 use super::id::{validate_id, VersionRef};
 use super::layout::{self, events_path, version_path};
 use super::material::Material;
-use super::LibraryError;
+use super::{timefmt, LibraryError};
 use crate::error::Diagnostic;
 use serde::Serialize;
 use std::path::{Path, PathBuf};
@@ -13,6 +13,9 @@ use std::path::{Path, PathBuf};
 #[derive(Debug, Clone)]
 pub struct Library {
     pub root: PathBuf,
+    /// When set, the time (Unix seconds, UTC) written into new versions and events instead of
+    /// the clock: for reproducible libraries (the CLI takes it from `SOURCE_DATE_EPOCH`).
+    pub fixed_time: Option<i64>,
 }
 
 /// One row of `library list`.
@@ -45,7 +48,23 @@ pub struct HistoryEntry {
 
 impl Library {
     pub fn new(root: impl Into<PathBuf>) -> Library {
-        Library { root: root.into() }
+        Library {
+            root: root.into(),
+            fixed_time: None,
+        }
+    }
+
+    /// This library, stamping new versions and events with `unix_secs` instead of the clock.
+    pub fn with_fixed_time(mut self, unix_secs: Option<i64>) -> Library {
+        self.fixed_time = unix_secs;
+        self
+    }
+
+    /// The timestamp for something written now.
+    pub fn now(&self) -> String {
+        self.fixed_time
+            .map(timefmt::rfc3339_from_unix)
+            .unwrap_or_else(timefmt::now_rfc3339)
     }
 
     pub fn root(&self) -> &Path {

@@ -119,6 +119,8 @@ def main():
         "warnings with a number": set_path(["warnings"], [1]),
         "runner_up without delta_bic": set_path(["runner_up"], {"model": "debye"}),
         "fit_file extra field": set_path(["fit_file", "size"], 3),
+        "correlation labels given": set_path(["model", "correlation_params"], ["mu_inf", "debye#1.delta_mu"]),
+        "correlation label not text": set_path(["model", "correlation_params"], [1]),
     }
     cases = []
     for name, change in changes.items():
