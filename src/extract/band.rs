@@ -49,7 +49,7 @@ pub struct BandReport {
 /// Analyse one winding: `l0` is M·N²·μ0/C1, used for the apparent μ′ and the C_p estimate.
 pub fn analyse(freq: &[f64], z: &[C64], l0: f64, range: Option<(f64, f64)>) -> BandReport {
     let n = freq.len();
-    let noisy = noise_mask(z);
+    let noisy = noise_mask(freq, z);
     let in_range = |i: usize| {
         range
             .map(|(lo, hi)| z[i].norm() >= lo && z[i].norm() <= hi)
@@ -59,7 +59,8 @@ pub fn analyse(freq: &[f64], z: &[C64], l0: f64, range: Option<(f64, f64)>) -> B
     let clean: Vec<bool> = (0..n)
         .map(|i| finite(i) && !noisy[i] && in_range(i) && z[i].im > 0.0)
         .collect();
-    let first_clean = (0..n).find(|&i| i + MIN_POINTS <= n && clean[i..i + MIN_POINTS].iter().all(|&c| c));
+    let first_clean =
+        (0..n).find(|&i| i + MIN_POINTS <= n && clean[i..i + MIN_POINTS].iter().all(|&c| c));
     let sr = first_clean.and_then(|i| find_self_resonance(freq, z, i));
     let f_sr = sr.map(|(_, f)| f);
     let mut reasons = Vec::new();
@@ -141,16 +142,18 @@ pub fn analyse(freq: &[f64], z: &[C64], l0: f64, range: Option<(f64, f64)>) -> B
 }
 
 /// Scatter of each point about the running median of its neighbours, relative to that median,
-/// smoothed by a second running median so single outliers do not split the band.
-pub fn noise_mask(z: &[C64]) -> Vec<bool> {
+/// smoothed by a second running median so single outliers do not split the band. The scatter
+/// is taken on Z/f (∝ L0·μ), which a wound core keeps nearly flat, so a coarse grid on a steep
+/// |Z| ∝ f does not pass for noise.
+pub fn noise_mask(freq: &[f64], z: &[C64]) -> Vec<bool> {
     let h = NOISE_HALF_WINDOW;
-    let re: Vec<f64> = z.iter().map(|v| v.re).collect();
-    let im: Vec<f64> = z.iter().map(|v| v.im).collect();
+    let re: Vec<f64> = z.iter().zip(freq).map(|(v, f)| v.re / f).collect();
+    let im: Vec<f64> = z.iter().zip(freq).map(|(v, f)| v.im / f).collect();
     let (mre, mim) = (running_median(&re, h), running_median(&im, h));
     let scatter: Vec<f64> = (0..z.len())
         .map(|i| {
             let m = C64::new(mre[i], mim[i]);
-            let s = (z[i] - m).norm() / m.norm();
+            let s = (C64::new(re[i], im[i]) - m).norm() / m.norm();
             if s.is_finite() {
                 s
             } else {
@@ -216,13 +219,22 @@ fn point_problem(z: &[C64], i: usize, range: Option<(f64, f64)>, noisy: &[bool])
             ohm(m),
             ohm(hi)
         ),
-        _ if noisy[i] => format!("noise-dominated (local scatter above {} %)", NOISE_LIMIT * 100.0),
+        _ if noisy[i] => format!(
+            "noise-dominated (local scatter above {} %)",
+            NOISE_LIMIT * 100.0
+        ),
         _ if z[i].im <= 0.0 => "the winding is not inductive (X ≤ 0)".to_string(),
         _ => "not a finite impedance".to_string(),
     }
 }
 
-fn start_reason(freq: &[f64], z: &[C64], i0: usize, range: Option<(f64, f64)>, noisy: &[bool]) -> String {
+fn start_reason(
+    freq: &[f64],
+    z: &[C64],
+    i0: usize,
+    range: Option<(f64, f64)>,
+    noisy: &[bool],
+) -> String {
     if i0 == 0 {
         format!("starts at the start of the sweep, {}", hz(freq[0]))
     } else {
@@ -263,23 +275,36 @@ fn ohm(r: f64) -> String {
     eng(r, "Ω")
 }
 
+/// Four significant figures with an SI prefix, trailing zeros dropped: `2.131 MHz`, `875.7 mΩ`.
 fn eng(v: f64, unit: &str) -> String {
-    let (scale, prefix) = [(1e9, "G"), (1e6, "M"), (1e3, "k"), (1.0, ""), (1e-3, "m")]
-        .into_iter()
-        .find(|(s, _)| v.abs() >= *s)
-        .unwrap_or((1e-3, "m"));
-    format!("{:.4} {}{}", v / scale, prefix, unit).replace(".0000 ", " ")
+    let (scale, prefix) = [
+        (1e9, "G"),
+        (1e6, "M"),
+        (1e3, "k"),
+        (1.0, ""),
+        (1e-3, "m"),
+        (1e-6, "µ"),
+    ]
+    .into_iter()
+    .find(|(s, _)| v.abs() >= *s)
+    .unwrap_or((1e-6, "µ"));
+    let x = v / scale;
+    let decimals = (3 - x.abs().max(1.0).log10().floor() as i32).max(0) as usize;
+    let text = format!("{:.*}", decimals, x);
+    let text = if text.contains('.') {
+        text.trim_end_matches('0').trim_end_matches('.')
+    } else {
+        &text
+    };
+    format!("{} {}{}", text, prefix, unit)
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::extract::tests::{log_grid, Lcg};
     use crate::extract::winding::{impedance_at, Winding};
     use crate::geometry::Core;
-
-    fn log_grid(lo: f64, hi: f64, n: usize) -> Vec<f64> {
-        (0..n).map(|k| lo * (hi / lo).powf(k as f64 / (n - 1) as f64)).collect()
-    }
 
     // Self-resonance [D, PHYSICS.md §2]: a 20-turn winding with 4 pF on a Debye material
     // resonates inside the sweep; the band must end below it, with C_p recovered roughly
@@ -293,11 +318,19 @@ mod tests {
         };
         let freq = log_grid(1e4, 4e8, 600);
         let mu = |f: f64| C64::new(5.0, 0.0) + 120.0 / C64::new(1.0, f / 30e6);
-        let z: Vec<C64> = freq.iter().map(|&f| impedance_at(f, mu(f), &core, &w)).collect();
+        let z: Vec<C64> = freq
+            .iter()
+            .map(|&f| impedance_at(f, mu(f), &core, &w))
+            .collect();
         let r = analyse(&freq, &z, w.l0(&core), Some((1.0, 2e3)));
         let (_, hi) = r.band.unwrap();
         let f_sr = r.f_sr.unwrap();
-        assert!(freq[hi] < f_sr / 2.0, "band to {} with resonance at {}", freq[hi], f_sr);
+        assert!(
+            freq[hi] < f_sr / 2.0,
+            "band to {} with resonance at {}",
+            freq[hi],
+            f_sr
+        );
         let c_p = r.c_p.unwrap();
         assert!(c_p > 2e-12 && c_p < 6e-12, "{}", c_p);
         // Where the band ends, the capacitance distorts Z by at most the limit (checked on the
@@ -331,16 +364,24 @@ mod tests {
     #[test]
     fn noise_has_no_band() {
         let freq = log_grid(1e5, 1e8, 200);
-        let mut seed = 12345u64;
+        let mut rng = Lcg(12345);
         let z: Vec<C64> = freq
             .iter()
-            .map(|_| {
-                seed = seed.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
-                let a = (seed >> 11) as f64 / (1u64 << 53) as f64;
-                C64::new(0.3 * a, 2.0 * a - 0.5)
-            })
+            .map(|_| C64::new(0.3 * rng.next(), 2.0 * rng.next()))
             .collect();
         let r = analyse(&freq, &z, 1e-9, None);
-        assert!(r.band.is_none() && r.reasons[0].contains("noise"), "{:?}", r);
+        assert!(
+            r.band.is_none() && r.reasons[0].contains("noise"),
+            "{:?}",
+            r
+        );
+    }
+
+    #[test]
+    fn engineering_notation_for_people() {
+        assert_eq!(hz(2.130_94e6), "2.131 MHz");
+        assert_eq!(hz(941_800.0), "941.8 kHz");
+        assert_eq!(hz(1e6), "1 MHz");
+        assert_eq!(ohm(0.8756918), "875.7 mΩ");
     }
 }

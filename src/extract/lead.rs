@@ -29,13 +29,23 @@ pub fn intercept_and_slope(u: &[f64], z: &[C64]) -> Option<(C64, C64)> {
     if !(suu > 0.0) {
         return None;
     }
-    let b = u.iter().zip(z).map(|(x, zk)| (x - u_mean) * (zk - z_mean)).sum::<C64>() / suu;
+    let b = u
+        .iter()
+        .zip(z)
+        .map(|(x, zk)| (x - u_mean) * (zk - z_mean))
+        .sum::<C64>()
+        / suu;
     Some((z_mean - b * u_mean, b))
 }
 
 /// Solve the lead inductance from `z[k][i]` (winding k at frequency index i) with turns `turns`
 /// over the indices `points`.
-pub fn solve(freq: &[f64], z: &[Vec<C64>], turns: &[f64], points: impl Iterator<Item = usize>) -> Option<LeadSolution> {
+pub fn solve(
+    freq: &[f64],
+    z: &[Vec<C64>],
+    turns: &[f64],
+    points: impl Iterator<Item = usize>,
+) -> Option<LeadSolution> {
     let u: Vec<f64> = turns.iter().map(|n| n * n).collect();
     let per: Vec<f64> = points
         .filter_map(|i| {

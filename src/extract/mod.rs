@@ -139,6 +139,8 @@ pub struct MuSpectrum {
     /// Corrections the sweeps carried in (fixture subtraction, ...), in words.
     pub corrections: Vec<String>,
     pub windings: Vec<WindingReport>,
+    /// The gap estimated against a solid core of the same material, when one was given.
+    pub gap_estimate: Option<gap::GapEstimate>,
 }
 
 impl MuSpectrum {
@@ -173,7 +175,10 @@ impl MuSpectrum {
 }
 
 /// Extract μ from one or more sweeps of the same core. See the module text for the steps.
-pub fn extract(measurements: &[Measurement], setup: &ExtractSetup) -> Result<MuSpectrum, ExtractError> {
+pub fn extract(
+    measurements: &[Measurement],
+    setup: &ExtractSetup,
+) -> Result<MuSpectrum, ExtractError> {
     check_inputs(measurements, setup)?;
     let core = &setup.core;
     let windings: Vec<Winding> = measurements
@@ -246,15 +251,48 @@ pub fn extract(measurements: &[Measurement], setup: &ExtractSetup) -> Result<MuS
         f_sr: resonant.and_then(|r| r.f_sr),
         empty_reference: setup.empty_reference,
         warnings: Vec::new(),
-        sources: measurements.iter().map(|m| m.sweep.source.clone()).collect(),
+        sources: measurements
+            .iter()
+            .map(|m| m.sweep.source.clone())
+            .collect(),
         corrections: measurements
             .iter()
             .flat_map(|m| m.sweep.corrections.iter().cloned())
             .collect(),
         windings: reports,
+        gap_estimate: None,
     };
     spectrum.warnings = warnings(&spectrum, measurements, setup);
     Ok(spectrum)
+}
+
+/// Estimate the total gap of the spectrum's core from its apparent μ_e and a μ table of the same
+/// material measured on a solid core, over the frequencies both bands share.
+pub fn estimate_gap_against(
+    s: &MuSpectrum,
+    solid: &MuTable,
+) -> Result<gap::GapEstimate, ExtractError> {
+    let (lo, hi) = (s.valid.0.max(solid.valid.0), s.valid.1.min(solid.valid.1));
+    let idx: Vec<usize> = s
+        .valid_indices()
+        .into_iter()
+        .filter(|&i| s.freq_hz[i] >= lo && s.freq_hz[i] <= hi)
+        .collect();
+    let freq: Vec<f64> = idx.iter().map(|&i| s.freq_hz[i]).collect();
+    let no_overlap = || {
+        ExtractError::from(
+            Diagnostic::new(format!(
+                "the solid core's μ table ({} to {}) does not overlap this band",
+                hz(solid.valid.0),
+                hz(solid.valid.1)
+            ))
+            .hint("measure both cores over a common band"),
+        )
+    };
+    let mu_solid = interpolate_log_f(&solid.freq_hz, &solid.mu, &freq).map_err(|_| no_overlap())?;
+    let apparent = s.apparent_mu();
+    let mu_e: Vec<C64> = idx.iter().map(|&i| apparent[i]).collect();
+    gap::estimate_gap(&mu_e, &mu_solid, s.core.effective().le()).ok_or_else(no_overlap)
 }
 
 fn check_inputs(measurements: &[Measurement], setup: &ExtractSetup) -> Result<(), ExtractError> {
@@ -265,15 +303,22 @@ fn check_inputs(measurements: &[Measurement], setup: &ExtractSetup) -> Result<()
     }
     for m in measurements {
         if !(m.turns > 0.0 && m.turns.is_finite()) {
-            return Err(Diagnostic::new(format!("turns must be positive, got {}", m.turns))
-                .file(&m.sweep.source.path)
-                .into());
+            return Err(
+                Diagnostic::new(format!("turns must be positive, got {}", m.turns))
+                    .file(&m.sweep.source.path)
+                    .into(),
+            );
         }
         if m.sweep.freq_hz.len() != m.sweep.z.len() || m.sweep.freq_hz.len() < band::MIN_POINTS {
-            return Err(Diagnostic::new(format!("the sweep holds {} points", m.sweep.z.len()))
-                .file(&m.sweep.source.path)
-                .expected(format!("at least {} points with one impedance each", band::MIN_POINTS))
-                .into());
+            return Err(
+                Diagnostic::new(format!("the sweep holds {} points", m.sweep.z.len()))
+                    .file(&m.sweep.source.path)
+                    .expected(format!(
+                        "at least {} points with one impedance each",
+                        band::MIN_POINTS
+                    ))
+                    .into(),
+            );
         }
     }
     if setup.cores_in_series == 0 {
@@ -281,23 +326,27 @@ fn check_inputs(measurements: &[Measurement], setup: &ExtractSetup) -> Result<()
     }
     if let LeadCorrection::Stated(l) = setup.lead {
         if !(l >= 0.0 && l.is_finite()) {
-            return Err(Diagnostic::new(format!("lead inductance must be ≥ 0, got {} H", l)).into());
+            return Err(
+                Diagnostic::new(format!("lead inductance must be ≥ 0, got {} H", l)).into(),
+            );
         }
     }
     if let Some(c) = setup.c_p {
         if !(c >= 0.0 && c.is_finite()) {
-            return Err(Diagnostic::new(format!("winding capacitance must be ≥ 0, got {} F", c)).into());
+            return Err(
+                Diagnostic::new(format!("winding capacitance must be ≥ 0, got {} F", c)).into(),
+            );
         }
     }
     if setup.lead == LeadCorrection::Solve {
         let first = measurements[0].turns;
         if measurements.len() < 2 || measurements.iter().all(|m| m.turns == first) {
-            return Err(
-                Diagnostic::new("solving the lead inductance needs windings of different turns")
-                    .expected("two or more files of the same core with different --turns, e.g. --turns 1,2")
-                    .hint("or state it with --lead-inductance, or use --empty with an empty-fixture sweep")
-                    .into(),
-            );
+            return Err(Diagnostic::new(
+                "solving the lead inductance needs windings of different turns",
+            )
+            .expected("two or more files of the same core with different --turns, e.g. --turns 1,2")
+            .hint("or state it with --lead-inductance, or use --empty with an empty-fixture sweep")
+            .into());
         }
     }
     Ok(())
@@ -364,13 +413,21 @@ fn common_band(reports: &[WindingReport]) -> Result<(f64, f64), ExtractError> {
 
 /// The first sweep's grid over the range all sweeps cover, with every sweep's Z on it.
 fn common_grid(measurements: &[Measurement]) -> Result<(Vec<f64>, Vec<Vec<C64>>), ExtractError> {
-    let lo = measurements.iter().map(|m| m.sweep.freq_hz[0]).fold(f64::MIN, f64::max);
+    let lo = measurements
+        .iter()
+        .map(|m| m.sweep.freq_hz[0])
+        .fold(f64::MIN, f64::max);
     let hi = measurements
         .iter()
         .map(|m| m.sweep.freq_hz[m.sweep.freq_hz.len() - 1])
         .fold(f64::MAX, f64::min);
     let first = &measurements[0].sweep;
-    let freq: Vec<f64> = first.freq_hz.iter().copied().filter(|&f| f >= lo && f <= hi).collect();
+    let freq: Vec<f64> = first
+        .freq_hz
+        .iter()
+        .copied()
+        .filter(|&f| f >= lo && f <= hi)
+        .collect();
     let z = measurements
         .iter()
         .map(|m| {
@@ -455,7 +512,9 @@ fn warnings(s: &MuSpectrum, measurements: &[Measurement], setup: &ExtractSetup) 
         }
     }
     let low_mu = idx.iter().take(5).map(|&i| s.mu[i].re).collect::<Vec<_>>();
-    if gap::percentile(&low_mu, 50.0).unwrap_or(0.0) >= MNZN_LIKE_MU && s.valid.1 > MNZN_DIMENSIONAL_HZ {
+    if gap::percentile(&low_mu, 50.0).unwrap_or(0.0) >= MNZN_LIKE_MU
+        && s.valid.1 > MNZN_DIMENSIONAL_HZ
+    {
         out.push(format!(
             "μ′ ≈ {:.0} at the bottom of the band looks like MnZn ferrite: above about {} its dimensional resonance and \
              eddy currents make the apparent μ depend on this core's size, so treat that part as this core's, not the material's",

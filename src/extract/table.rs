@@ -54,10 +54,21 @@ pub fn metadata(s: &MuSpectrum) -> Vec<(String, String)> {
     put("ae_m2", format!("{:.5e}", e.ae()));
     put("ve_m3", format!("{:.5e}", e.ve()));
     put("a_min_m2", format!("{:.5e}", e.a_min));
-    put("gap_total_m", format!("{:e}", s.core.gap_m()));
+    put(
+        "gap_total_m",
+        if s.core.gap_m() == 0.0 {
+            "0".into()
+        } else {
+            format!("{:e}", s.core.gap_m())
+        },
+    );
     put(
         "turns",
-        s.turns.iter().map(|t| t.to_string()).collect::<Vec<_>>().join(","),
+        s.turns
+            .iter()
+            .map(|t| t.to_string())
+            .collect::<Vec<_>>()
+            .join(","),
     );
     put("cores_in_series", s.cores_in_series.to_string());
     put("empty_fixture_reference", s.empty_reference.to_string());
@@ -75,9 +86,20 @@ pub fn metadata(s: &MuSpectrum) -> Vec<(String, String)> {
             put("lead_inductance_from", how);
         }
     }
+    if let Some(g) = &s.gap_estimate {
+        put(
+            "gap_estimate_m",
+            format!(
+                "{:.4e} (16th-84th percentile {:.4e} to {:.4e}; Im(1/mu) mismatch {:.3})",
+                g.total_m, g.p16_m, g.p84_m, g.loss_mismatch
+            ),
+        );
+    }
     put(
         "winding_capacitance_f",
-        s.c_p.map(|c| format!("{:.4e}", c)).unwrap_or_else(|| "none".into()),
+        s.c_p
+            .map(|c| format!("{:.4e}", c))
+            .unwrap_or_else(|| "none".into()),
     );
     put(
         "self_resonance_hz",
@@ -88,9 +110,17 @@ pub fn metadata(s: &MuSpectrum) -> Vec<(String, String)> {
     for (src, w) in s.sources.iter().zip(&s.windings) {
         put(
             "source",
-            format!("{} sha256={} turns={}", src.file_name(), src.sha256, w.turns),
+            format!(
+                "{} sha256={} turns={}",
+                src.file_name(),
+                src.sha256,
+                w.turns
+            ),
         );
-        put("band_of", format!("{}: {}", src.file_name(), w.reasons.join("; ")));
+        put(
+            "band_of",
+            format!("{}: {}", src.file_name(), w.reasons.join("; ")),
+        );
     }
     for c in &s.corrections {
         put("correction", c.clone());
@@ -111,7 +141,12 @@ pub fn write_mu_table(s: &MuSpectrum) -> String {
     out += HEADER;
     out.push('\n');
     for i in s.valid_indices() {
-        out += &format!("{},{:e},{:e}\n", s.freq_hz[i], s.mu[i].re, s.mu_double_prime(i));
+        out += &format!(
+            "{},{:e},{:e}\n",
+            s.freq_hz[i],
+            s.mu[i].re,
+            s.mu_double_prime(i)
+        );
     }
     out
 }
@@ -136,7 +171,9 @@ pub fn read_mu_table(text: &str) -> Result<MuTable, ExtractError> {
         }
         if !header_seen {
             if line != HEADER {
-                return Err(at(format!("unexpected header '{}'", line)).expected(HEADER).into());
+                return Err(at(format!("unexpected header '{}'", line))
+                    .expected(HEADER)
+                    .into());
             }
             header_seen = true;
             continue;
@@ -162,10 +199,16 @@ pub fn read_mu_table(text: &str) -> Result<MuTable, ExtractError> {
             .expected(format!("a header line '{}' and rows below it", HEADER))
             .into());
     }
-    let stated = meta.iter().find(|(k, _)| k == "valid_band_hz").and_then(|(_, v)| {
-        let p: Vec<f64> = v.split_whitespace().filter_map(|x| x.parse().ok()).collect();
-        (p.len() == 2 && p[0] <= p[1]).then(|| (p[0], p[1]))
-    });
+    let stated = meta
+        .iter()
+        .find(|(k, _)| k == "valid_band_hz")
+        .and_then(|(_, v)| {
+            let p: Vec<f64> = v
+                .split_whitespace()
+                .filter_map(|x| x.parse().ok())
+                .collect();
+            (p.len() == 2 && p[0] <= p[1]).then(|| (p[0], p[1]))
+        });
     let valid = stated.unwrap_or((freq[0], freq[freq.len() - 1]));
     Ok(MuTable {
         freq_hz: freq,

@@ -94,9 +94,24 @@ mod tests {
     fn physics_worked_impedances_20_10_10() {
         let core = core_20_10_10();
         let cases = [
-            (10e6, C64::new(1000.0, -500.0), 1.0, C64::new(43.552, 87.103)),
-            (100e6, C64::new(100.0, -200.0), 1.0, C64::new(174.207, 87.103)),
-            (100e6, C64::new(100.0, -200.0), 3.0, C64::new(1567.86, 783.93)),
+            (
+                10e6,
+                C64::new(1000.0, -500.0),
+                1.0,
+                C64::new(43.552, 87.103),
+            ),
+            (
+                100e6,
+                C64::new(100.0, -200.0),
+                1.0,
+                C64::new(174.207, 87.103),
+            ),
+            (
+                100e6,
+                C64::new(100.0, -200.0),
+                3.0,
+                C64::new(1567.86, 783.93),
+            ),
         ];
         for (f, mu, n, want) in cases {
             let z = impedance_at(f, mu, &core, &Winding::turns(n));
@@ -125,7 +140,10 @@ mod tests {
             },
         );
         let z2n = impedance_at(5e6, mu, &core, &Winding::turns(2.0));
-        assert!((z2m - 2.0 * z1).norm() < 1e-12 * z1.norm() && (z2n - 4.0 * z1).norm() < 1e-12 * z1.norm());
+        assert!(
+            (z2m - 2.0 * z1).norm() < 1e-12 * z1.norm()
+                && (z2n - 4.0 * z1).norm() < 1e-12 * z1.norm()
+        );
     }
 
     // Self-resonance [D, PHYSICS.md §2]: Z_N = N²Z1/(1 + jωC_pN²Z1) is purely resistive where

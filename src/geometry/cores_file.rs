@@ -16,7 +16,8 @@ use std::path::{Path, PathBuf};
 /// The name of the cores file inside a library folder.
 pub const FILE_NAME: &str = "cores.toml";
 
-const EXPECTED: &str = "[cores.NAME] tables with spec = \"SHAPE:key=value,...\" and an optional description";
+const EXPECTED: &str =
+    "[cores.NAME] tables with spec = \"SHAPE:key=value,...\" and an optional description";
 
 #[derive(Debug, Clone, PartialEq, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -66,7 +67,9 @@ impl CoresFile {
             cores: raw.cores,
         };
         for (name, entry) in &file.cores {
-            let at = text.find(&format!("cores.{}", name)).map(|o| line_of(text, o));
+            let at = text
+                .find(&format!("cores.{}", name))
+                .map(|o| line_of(text, o));
             let locate = |d: Diagnostic| {
                 let d = d.file(path);
                 match at {
@@ -81,7 +84,8 @@ impl CoresFile {
                 )))
                 .into());
             }
-            file.resolve(&entry.spec).map_err(|e| GeometryError(locate(e.0)))?;
+            file.resolve(&entry.spec)
+                .map_err(|e| GeometryError(locate(e.0)))?;
         }
         Ok(file)
     }
@@ -113,7 +117,7 @@ impl CoresFile {
 }
 
 fn line_of(text: &str, offset: usize) -> usize {
-    text[..offset.min(text.len())].matches('\n').count() + 1
+    text.get(..offset).unwrap_or(text).matches('\n').count() + 1
 }
 
 #[cfg(test)]
@@ -128,16 +132,28 @@ mod tests {
         let small = f.resolve("small").unwrap();
         assert!((pair.effective().c1 * 2.0 / small.effective().c1 - 1.0).abs() < 1e-14);
         let e = f.resolve("large").unwrap_err().to_string();
-        assert!(e.contains("small, pair") || e.contains("pair, small"), "{}", e);
+        assert!(
+            e.contains("small, pair") || e.contains("pair, small"),
+            "{}",
+            e
+        );
     }
 
     #[test]
     fn bad_cores_files_name_the_line() {
-        let e = CoresFile::parse("[cores.a]\nspec = \"toroid:od=10mm\"\n", Path::new("c.toml")).unwrap_err();
+        let e = CoresFile::parse(
+            "[cores.a]\nspec = \"toroid:od=10mm\"\n",
+            Path::new("c.toml"),
+        )
+        .unwrap_err();
         assert_eq!(e.0.line, Some(1), "{}", e);
         assert!(e.to_string().contains("id: missing"));
         let e = CoresFile::parse("[cores.a]\nspek = \"x\"\n", Path::new("c.toml")).unwrap_err();
-        assert!(e.0.line.is_some() && e.to_string().contains("spek"), "{}", e);
+        assert!(
+            e.0.line.is_some() && e.to_string().contains("spek"),
+            "{}",
+            e
+        );
         let e = CoresFile::parse("[cores.a]\nspec = \"a\"\n", Path::new("c.toml")).unwrap_err();
         assert!(e.to_string().contains("loop"), "{}", e);
     }

@@ -25,7 +25,11 @@ impl Given {
     }
 
     pub fn spec(&self) -> String {
-        let mut s = format!("given:c1={},c2={}", fmt_power(self.c1, -1), fmt_power(self.c2, -3));
+        let mut s = format!(
+            "given:c1={},c2={}",
+            fmt_power(self.c1, -1),
+            fmt_power(self.c2, -3)
+        );
         if let Some(a) = self.a_min {
             s += &format!(",amin={}", fmt_power(a, 2));
         }
@@ -70,7 +74,11 @@ mod tests {
             "given:c2=1.8867e-2/mm3,ae=48.0454mm2",
         ] {
             let core = parse_core(spec, &none).unwrap();
-            assert_iec_row_within(&core.effective(), [0.90647, 1.8867e-2, 43.552, 48.045, 2092.5], 1e-4);
+            assert_iec_row_within(
+                &core.effective(),
+                [0.90647, 1.8867e-2, 43.552, 48.045, 2092.5],
+                1e-4,
+            );
         }
     }
 }

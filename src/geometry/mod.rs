@@ -103,7 +103,9 @@ impl Core {
     /// a split core; a closed core becomes a split one).
     pub fn with_gap(&self, total: f64) -> Result<Core, GeometryError> {
         match self {
-            Core::Split(s) => split::Split::new((*s.body).clone(), Some(total / split::FACES)).map(Core::Split),
+            Core::Split(s) => {
+                split::Split::new((*s.body).clone(), Some(total / split::FACES)).map(Core::Split)
+            }
             Core::Stack { core, n } => Ok(Core::Stack {
                 core: Box::new(core.with_gap(total)?),
                 n: *n,
@@ -131,7 +133,13 @@ pub(crate) mod tests {
     /// significant figures, so a computed value must round to it (half a unit in the fifth
     /// figure, relative `rel` at least).
     pub(crate) fn assert_iec_row_within(e: &Effective, row: [f64; 5], rel: f64) {
-        let mm = [e.c1 * 1e-3, e.c2 * 1e-9, e.le() * 1e3, e.ae() * 1e6, e.ve() * 1e9];
+        let mm = [
+            e.c1 * 1e-3,
+            e.c2 * 1e-9,
+            e.le() * 1e3,
+            e.ae() * 1e6,
+            e.ve() * 1e9,
+        ];
         let names = ["C1 /mm", "C2 /mm3", "le mm", "Ae mm2", "Ve mm3"];
         for i in 0..5 {
             let half_unit = 0.5 * 10f64.powf(row[i].abs().log10().floor() - 4.0);

@@ -59,7 +59,11 @@ pub fn integrate_zones(f: impl Fn(f64) -> f64, a: f64, b: f64, breaks: &[f64]) -
         .windows(2)
         .map(|z| {
             let (mid, half) = ((z[0] + z[1]) / 2.0, (z[1] - z[0]) / 2.0);
-            half * x.iter().zip(&w).map(|(xi, wi)| wi * f(mid + half * xi)).sum::<f64>()
+            half * x
+                .iter()
+                .zip(&w)
+                .map(|(xi, wi)| wi * f(mid + half * xi))
+                .sum::<f64>()
         })
         .sum()
 }

@@ -8,7 +8,8 @@ use super::{Core, GeometryError};
 use crate::error::Diagnostic;
 
 /// One line per shape: its keys and an example, shown whenever a spec is wrong.
-pub const SHAPES_HELP: &str = "toroid:od=LEN,id=LEN,h=LEN[,chamfer=LEN|,radius=LEN]  (alias: sleeve)\n  \
+pub const SHAPES_HELP: &str =
+    "toroid:od=LEN,id=LEN,h=LEN[,chamfer=LEN|,radius=LEN]  (alias: sleeve)\n  \
 split:od=LEN,id=LEN,h=LEN[,gap=LEN per face]  or split:SHAPE:...,gap=LEN\n  \
 flat:w=LEN,t=LEN,slot_w=LEN,slot_t=LEN,len=LEN\n  \
 given:two of c1=/mm, c2=/mm3, le=LEN, ae=mm2 [,amin=mm2]\n  \
@@ -17,11 +18,18 @@ or a NAME from a cores file; LEN takes a unit: mm, m, um, in";
 
 /// Parse a spec. Names (specs without a colon) are looked up with `lookup`, which returns the
 /// named core's own spec.
-pub fn parse_core(spec: &str, lookup: &dyn Fn(&str) -> Option<String>) -> Result<Core, GeometryError> {
+pub fn parse_core(
+    spec: &str,
+    lookup: &dyn Fn(&str) -> Option<String>,
+) -> Result<Core, GeometryError> {
     parse_depth(spec, lookup, 0)
 }
 
-fn parse_depth(spec: &str, lookup: &dyn Fn(&str) -> Option<String>, depth: usize) -> Result<Core, GeometryError> {
+fn parse_depth(
+    spec: &str,
+    lookup: &dyn Fn(&str) -> Option<String>,
+    depth: usize,
+) -> Result<Core, GeometryError> {
     let spec = spec.trim();
     if depth > 8 {
         return Err(spec_error(spec, "core names refer to each other in a loop").into());
@@ -70,13 +78,16 @@ fn parse_depth(spec: &str, lookup: &dyn Fn(&str) -> Option<String>, depth: usize
         }
         "stack" => {
             let (inner, n) = take_key(body, "n");
-            let n = n.ok_or_else(|| key_error(spec, "n", "missing; say how many identical cores are stacked"))?;
-            let n: u32 = n
-                .trim()
-                .parse()
-                .ok()
-                .filter(|&n| n >= 1)
-                .ok_or_else(|| key_error(spec, "n", &format!("'{}' is not a whole number ≥ 1", n)))?;
+            let n = n.ok_or_else(|| {
+                key_error(
+                    spec,
+                    "n",
+                    "missing; say how many identical cores are stacked",
+                )
+            })?;
+            let n: u32 = n.trim().parse().ok().filter(|&n| n >= 1).ok_or_else(|| {
+                key_error(spec, "n", &format!("'{}' is not a whole number ≥ 1", n))
+            })?;
             Ok(Core::Stack {
                 core: Box::new(parse_depth(&inner, lookup, depth + 1)?),
                 n,
@@ -92,7 +103,9 @@ fn take_key(body: &str, key: &str) -> (String, Option<String>) {
     let mut rest = Vec::new();
     for part in body.split(',') {
         match part.split_once('=') {
-            Some((k, v)) if k.trim().eq_ignore_ascii_case(key) => value = Some(v.trim().to_string()),
+            Some((k, v)) if k.trim().eq_ignore_ascii_case(key) => {
+                value = Some(v.trim().to_string())
+            }
             _ => rest.push(part),
         }
     }
@@ -152,7 +165,11 @@ impl KeyValues {
     }
 
     /// A quantity of dimension length^`power` (power −1 for C1, −3 for C2, 2 for areas).
-    pub(crate) fn opt_power(&mut self, key: &str, power: i32) -> Result<Option<f64>, GeometryError> {
+    pub(crate) fn opt_power(
+        &mut self,
+        key: &str,
+        power: i32,
+    ) -> Result<Option<f64>, GeometryError> {
         match self.take(key) {
             None => Ok(None),
             Some(v) => parse_power(&v, power)
@@ -166,8 +183,13 @@ impl KeyValues {
     }
 
     pub(crate) fn length(&mut self, key: &str) -> Result<f64, GeometryError> {
-        self.opt_length(key)?
-            .ok_or_else(|| key_error(&self.spec, key, &format!("missing for shape '{}'", self.shape)))
+        self.opt_length(key)?.ok_or_else(|| {
+            key_error(
+                &self.spec,
+                key,
+                &format!("missing for shape '{}'", self.shape),
+            )
+        })
     }
 
     /// An error about this spec as a whole.
@@ -224,21 +246,31 @@ pub fn parse_power(text: &str, power: i32) -> Result<f64, String> {
             t, example
         ));
     }
-    let (inverse, rest) = match suffix.strip_prefix("1/").or_else(|| suffix.strip_prefix('/')) {
+    let (inverse, rest) = match suffix
+        .strip_prefix("1/")
+        .or_else(|| suffix.strip_prefix('/'))
+    {
         Some(r) => (true, r.trim()),
         None => (false, suffix),
     };
     let rest = rest.replace('^', "");
-    let base_len = rest.trim_end_matches(|c: char| c.is_ascii_digit() || c == '-').len();
+    let base_len = rest
+        .trim_end_matches(|c: char| c.is_ascii_digit() || c == '-')
+        .len();
     let (base, exp) = rest.split_at(base_len);
     let exp: i32 = if exp.is_empty() {
         1
     } else {
-        exp.parse().map_err(|_| format!("bad exponent in '{}'", t))?
+        exp.parse()
+            .map_err(|_| format!("bad exponent in '{}'", t))?
     };
     let exp = if inverse { -exp } else { exp };
-    let scale =
-        length_unit(base).ok_or_else(|| format!("unknown unit '{}' in '{}'; expected mm, m, um or in", base, t))?;
+    let scale = length_unit(base).ok_or_else(|| {
+        format!(
+            "unknown unit '{}' in '{}'; expected mm, m, um or in",
+            base, t
+        )
+    })?;
     if exp != power {
         return Err(format!(
             "'{}' has the wrong dimension; expected length^{} e.g. {}",
@@ -252,15 +284,14 @@ pub fn parse_power(text: &str, power: i32) -> Result<f64, String> {
     Ok(v)
 }
 
+/// Metres per unit of length, through the crate's one unit parser; only letter units (mm, m,
+/// um, µm, in, ...), so a bare SI prefix cannot pass for a unit.
 fn length_unit(base: &str) -> Option<f64> {
-    match base.trim() {
-        "m" => Some(1.0),
-        "cm" => Some(1e-2),
-        "mm" => Some(1e-3),
-        "um" | "µm" | "μm" => Some(1e-6),
-        "in" | "IN" | "In" => Some(0.0254),
-        _ => None,
+    let base = base.trim();
+    if base.is_empty() || !base.chars().all(|c| c.is_alphabetic()) {
+        return None;
     }
+    crate::units::parse_quantity(&format!("1{}", base), "m").ok()
 }
 
 /// A length as a spec writes it back: millimetres (micrometres below 0.1 mm, as gaps are
@@ -281,7 +312,11 @@ pub fn fmt_power(v: f64, power: i32) -> String {
         p if p < 0 => format!(
             "{}/mm{}",
             sig(mm),
-            if p == -1 { String::new() } else { (-p).to_string() }
+            if p == -1 {
+                String::new()
+            } else {
+                (-p).to_string()
+            }
         ),
         p => format!("{}mm{}", sig(mm), p),
     }
@@ -328,7 +363,7 @@ mod tests {
         assert!((parse_power("0.90647mm-1", -1).unwrap() - 906.47).abs() < 1e-9);
         assert!((parse_power("1.8867e-2/mm3", -3).unwrap() - 1.8867e7).abs() < 1e-3);
         assert!((parse_power("48.045mm^2", 2).unwrap() - 48.045e-6).abs() < 1e-15);
-        for bad in ["25", "25 furlongs", "mm", "25mm2", "-3mm"] {
+        for bad in ["25", "25 furlongs", "mm", "25mm2", "-3mm", "25/mm"] {
             assert!(parse_power(bad, 1).is_err(), "{} should be refused", bad);
         }
     }

@@ -21,7 +21,9 @@ impl Edge {
         match *self {
             Edge::Sharp => 0.0,
             Edge::Chamfer(c) => (c - d).max(0.0),
-            Edge::Radius(rho) if d < rho => rho - (rho * rho - (rho - d) * (rho - d)).max(0.0).sqrt(),
+            Edge::Radius(rho) if d < rho => {
+                rho - (rho * rho - (rho - d) * (rho - d)).max(0.0).sqrt()
+            }
             Edge::Radius(_) => 0.0,
         }
     }
@@ -78,7 +80,12 @@ impl Toroid {
     }
 
     pub fn spec_body(&self) -> String {
-        let mut s = format!("od={},id={},h={}", fmt_len(self.od), fmt_len(self.id), fmt_len(self.h));
+        let mut s = format!(
+            "od={},id={},h={}",
+            fmt_len(self.od),
+            fmt_len(self.id),
+            fmt_len(self.h)
+        );
         match self.edge {
             Edge::Sharp => {}
             Edge::Chamfer(c) => s += &format!(",chamfer={}", fmt_len(c)),
@@ -100,15 +107,16 @@ impl Toroid {
             (None, Some(r)) => Edge::Radius(r),
             (None, None) => Edge::Sharp,
         };
-        Toroid { od, id, h, edge }.checked().map_err(|e| kv.rewrap(e))
+        Toroid { od, id, h, edge }
+            .checked()
+            .map_err(|e| kv.rewrap(e))
     }
 
     fn checked(self) -> Result<Toroid, GeometryError> {
         let bad = |m: String| {
-            GeometryError(
-                crate::error::Diagnostic::new(m)
-                    .expected("0 < id < od, h > 0, and an edge smaller than half the wall and half the height"),
-            )
+            GeometryError(crate::error::Diagnostic::new(m).expected(
+                "0 < id < od, h > 0, and an edge smaller than half the wall and half the height",
+            ))
         };
         if !(self.id > 0.0 && self.od > self.id && self.h > 0.0) {
             return Err(bad(format!(
@@ -120,7 +128,10 @@ impl Toroid {
         }
         let s = self.edge.size();
         if s < 0.0 || 2.0 * s >= (self.od - self.id) / 2.0 || 2.0 * s >= self.h {
-            return Err(bad(format!("edge of {} does not fit the section", fmt_len(s))));
+            return Err(bad(format!(
+                "edge of {} does not fit the section",
+                fmt_len(s)
+            )));
         }
         Ok(self)
     }

@@ -3,6 +3,7 @@
 pub mod fit_plot;
 pub mod font;
 pub mod mu_plot;
+pub mod output;
 
 crate::stage_error!(
     /// A plot that cannot be drawn or written.
