@@ -543,3 +543,23 @@ fn source_date_epoch_makes_published_files_reproducible() {
     let doc: Value = serde_json::from_slice(&one).unwrap();
     assert_eq!(doc["created"], "2009-02-13T23:31:30Z");
 }
+
+#[test]
+fn a_version_file_copied_under_another_number_is_refused() {
+    let s = Scratch::new();
+    publish(&s, "ni-a", &fx::good_fit());
+    publish(&s, "ni-a", &fx::good_fit());
+    std::fs::copy(s.path("lib/ni-a/v0001.json"), s.path("lib/ni-a/v0002.json")).unwrap();
+    let out = run(&s, &["library", "show", "ni-a@2"]).failed();
+    assert!(
+        out.stderr.contains("holds ni-a@1 but is stored as ni-a@2"),
+        "{}",
+        out.stderr
+    );
+    let out = run(&s, &["library", "verify"]).failed();
+    assert!(
+        out.stdout.contains("v0002.json: holds version 1"),
+        "{}",
+        out.stdout
+    );
+}

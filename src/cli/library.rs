@@ -164,12 +164,7 @@ fn list(lib: &Library, status: Option<Status>, json: bool) -> Result<(), Failure
 
 fn show(lib: &Library, r: &VersionRef, json: bool) -> Result<(), Failure> {
     let m = lib.resolve(r)?;
-    let status = lib
-        .log(&m.material)?
-        .status
-        .get(&m.version)
-        .copied()
-        .unwrap_or(Status::Draft);
+    let status = lib.status(&m.material, m.version)?;
     let rules = vetting::evaluate(&m);
     if json {
         let mut doc = serde_json::to_value(&m).map_err(|e| Failure::input(e.to_string()))?;
@@ -196,7 +191,13 @@ fn show(lib: &Library, r: &VersionRef, json: bool) -> Result<(), Failure> {
     );
     println!("  mu_inf = {}", estimate(&m.model.mu_inf));
     for (i, t) in m.model.terms.iter().enumerate() {
-        for (name, e) in &t.params {
+        // In the order the model defines them (delta_mu, f_hz, shape), not alphabetically.
+        let order = crate::model::TermKind::parse(&t.kind)
+            .map(|k| k.param_names())
+            .unwrap_or(&[]);
+        let mut params: Vec<_> = t.params.iter().collect();
+        params.sort_by_key(|(name, _)| order.iter().position(|o| o == name).unwrap_or(usize::MAX));
+        for (name, e) in params {
             println!("  term{}.{}.{} = {}", i + 1, t.kind, name, estimate(e));
         }
     }

@@ -22,12 +22,7 @@ impl Library {
         require_text("--why", why)?;
         let _lock = LibraryLock::acquire(&self.root)?;
         let material = self.load(id, Some(version))?;
-        let status = self
-            .log(id)?
-            .status
-            .get(&version)
-            .copied()
-            .unwrap_or(super::Status::Draft);
+        let status = self.status(id, version)?;
         Action::Promote.apply(status).map_err(|e| {
             Diagnostic::new(format!("cannot promote {}: {}", material.reference(), e))
         })?;

@@ -112,7 +112,22 @@ impl Library {
             }
             None => versions[versions.len() - 1],
         };
-        Material::read(&self.version_path(id, v))
+        let path = self.version_path(id, v);
+        let m = Material::read(&path)?;
+        if m.material != id || m.version != v {
+            return Err(Diagnostic::new(format!("the file holds {} but is stored as {}@{}", m.reference(), id, v))
+                .file(&path)
+                .hint("files must not be copied or renamed inside the library; run `mucurve library verify`")
+                .into());
+        }
+        Ok(m)
+    }
+
+    /// The lifecycle status of `id@version`.
+    pub fn status(&self, id: &str, version: u32) -> Result<Status, LibraryError> {
+        self.log(id)?.status.get(&version).copied().ok_or_else(|| {
+            Diagnostic::new(format!("material '{}' has no version {}", id, version)).into()
+        })
     }
 
     /// [`Library::load`] for a parsed `ID[@N]`.
