@@ -18,6 +18,13 @@ use std::path::{Path, PathBuf};
 /// common practice) and for noise-free impedance files.
 const NOISY_S_TOLERANCE: f64 = 0.01;
 const EXACT_TOLERANCE: f64 = 1e-6;
+/// Lead solved from two noisy windings: L_lead and μ within 3 %.
+const SOLVED_TOLERANCE: f64 = 0.03;
+/// ../shared/external bench check of issue 3: solved μ′ within 25 % of the 8-turn winding's.
+/// The same ±25 % is common practice for ferrite μ_i (PHYSICS.md §8).
+const BENCH_TOLERANCE: f64 = 0.25;
+/// "About twice off": the naive 1-turn μ′ must exceed the 8-turn one by at least this factor.
+const NAIVE_FACTOR: f64 = 1.6;
 
 /// An invented NiZn-like material: μ∞ 2 plus a Debye relaxation of 300 at 20 MHz (PHYSICS.md §4).
 fn material() -> Model {
@@ -277,9 +284,9 @@ fn extract_solve_lead_across_windings() {
     );
     let (t, out) = run_ok(&sc, &args);
     let lead: f64 = t.meta_values("lead_inductance_h")[0].parse().unwrap();
-    assert!((lead / 30e-9 - 1.0).abs() < 0.03, "{}", lead);
+    assert!((lead / 30e-9 - 1.0).abs() < SOLVED_TOLERANCE, "{}", lead);
     assert!(out.contains("lead inductance solved"), "{}", out);
-    assert!(worst_error(&t) < 0.03, "{}", worst_error(&t));
+    assert!(worst_error(&t) < SOLVED_TOLERANCE, "{}", worst_error(&t));
 }
 
 // The output contract: header exactly `freq_hz,mu_prime,mu_double_prime`, μ″ ≥ 0 for a lossy
@@ -499,8 +506,13 @@ fn external_bench_cores_solve_lead_agrees_with_eight_turns() {
         "μ′ median 1–10 MHz: solved {:.1}, 8 turns {:.1}, naive 1 turn {:.1}\n{}",
         s, r, n, out
     );
-    assert!((s / r - 1.0).abs() < 0.25, "solved {} vs 8-turn {}", s, r);
-    assert!(n / r > 1.6, "naive {} vs 8-turn {}", n, r);
+    assert!(
+        (s / r - 1.0).abs() < BENCH_TOLERANCE,
+        "solved {} vs 8-turn {}",
+        s,
+        r
+    );
+    assert!(n / r > NAIVE_FACTOR, "naive {} vs 8-turn {}", n, r);
     let lead: f64 = solved.meta_values("lead_inductance_h")[0].parse().unwrap();
     assert!(
         lead > 5e-9 && lead < 100e-9,
@@ -541,5 +553,5 @@ fn external_bench_cores_25_turn_band_ends_below_self_resonance() {
         .effective()
         .c1;
     let l = mucurve::MU0 * 625.0 * t.mu[0].re / c1;
-    assert!((l / 55e-6 - 1.0).abs() < 0.25, "L = {} H", l);
+    assert!((l / 55e-6 - 1.0).abs() < BENCH_TOLERANCE, "L = {} H", l);
 }

@@ -18,7 +18,8 @@ use std::path::{Path, PathBuf};
 
 #[derive(Debug, clap::Args)]
 pub struct Args {
-    /// Measurement files of the same core, one winding each (Touchstone or CSV).
+    /// Measurement files of the same core, one winding each (Touchstone or CSV). With --empty,
+    /// μ = 1 + (Z − Z_empty)/(jωL0), the empty-fixture form.
     #[arg(required = true, value_name = "FILE")]
     pub files: Vec<PathBuf>,
     /// The core: SHAPE:key=value,... with units, e.g. toroid:od=25mm,id=15mm,h=10mm, or a name

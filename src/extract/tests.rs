@@ -5,6 +5,15 @@ use super::*;
 use crate::ingest::{convert, method, Method, Sweep, SweepData};
 use crate::model::{Model, Term};
 
+/// 1e-4 noise on S (a calibrated analyser, common practice) keeps μ within 1 % in the band.
+const NOISY_TOLERANCE: f64 = 0.01;
+/// Lead solved from two noisy windings: L_lead within 2 %, μ within 3 % (the 1-turn winding,
+/// mostly lead, carries the noise into μ).
+const LEAD_TOLERANCE: f64 = 0.02;
+const SOLVED_MU_TOLERANCE: f64 = 0.03;
+/// Noise-free paths that only undo exact formulas.
+const EXACT_TOLERANCE: f64 = 1e-6;
+
 /// A NiZn-like invented material: μ∞ 2, a Debye relaxation of 300 at 20 MHz.
 fn material() -> Model {
     Model {
@@ -136,7 +145,7 @@ fn synthetic_reflection_sweep_returns_known_mu() {
     // Nothing limits this sweep: |Z| stays in range, no resonance, and 1e-4 noise is not
     // taken for noise-dominated points.
     assert_eq!(s.valid, (freq[0], freq[freq.len() - 1]));
-    assert!(worst_error(&s) < 0.01, "{}", worst_error(&s));
+    assert!(worst_error(&s) < NOISY_TOLERANCE, "{}", worst_error(&s));
 }
 
 // Series-through S21 = 2Z0/(2Z0 + Z) [Pozar, PHYSICS.md §3]; its accurate range starts at 10 Ω
@@ -161,7 +170,7 @@ fn synthetic_series_sweep_returns_known_mu() {
     let start = s.valid_indices()[0];
     let z = |i: usize| impedance_at(s.freq_hz[i], truth(s.freq_hz[i]), &core(), &w).norm();
     assert!(z(start) >= 10.0 && z(start - 1) < 10.0);
-    assert!(worst_error(&s) < 0.01, "{}", worst_error(&s));
+    assert!(worst_error(&s) < NOISY_TOLERANCE, "{}", worst_error(&s));
 }
 
 // Lead inductance (PHYSICS.md §2): 1 and 2 turns with 30 nH of lead each; solving it across the
@@ -186,10 +195,10 @@ fn synthetic_solve_lead_recovers_lead_and_mu() {
     )
     .unwrap();
     let l = s.l_lead.as_ref().unwrap();
-    assert!((l.henry / 30e-9 - 1.0).abs() < 0.02, "{:?}", l);
-    assert!(worst_error(&s) < 0.03, "{}", worst_error(&s));
+    assert!((l.henry / 30e-9 - 1.0).abs() < LEAD_TOLERANCE, "{:?}", l);
+    assert!(worst_error(&s) < SOLVED_MU_TOLERANCE, "{}", worst_error(&s));
     let naive = extract(&ms[..1], &ExtractSetup::new(core())).unwrap();
-    assert!(worst_error(&naive) > 0.1);
+    assert!(worst_error(&naive) > 10.0 * SOLVED_MU_TOLERANCE);
     assert!(
         naive
             .warnings
@@ -221,7 +230,13 @@ fn synthetic_self_resonance_limits_band_and_stated_cp_is_removed() {
     let s = extract(&m, &ExtractSetup::new(core())).unwrap();
     let f_sr = s.f_sr.expect("resonance inside the sweep");
     assert!(s.valid.1 < f_sr);
-    assert!(worst_error(&s) < 0.08, "{}", worst_error(&s));
+    // Inside the band the winding capacitance changes Z by at most DISTORTION_LIMIT, μ by about
+    // as much again through its phase.
+    assert!(
+        worst_error(&s) < 2.0 * band::DISTORTION_LIMIT,
+        "{}",
+        worst_error(&s)
+    );
     let stated = extract(
         &m,
         &ExtractSetup {
@@ -230,7 +245,11 @@ fn synthetic_self_resonance_limits_band_and_stated_cp_is_removed() {
         },
     )
     .unwrap();
-    assert!(worst_error(&stated) < 1e-6, "{}", worst_error(&stated));
+    assert!(
+        worst_error(&stated) < EXACT_TOLERANCE,
+        "{}",
+        worst_error(&stated)
+    );
 }
 
 // Empty-fixture form μ = 1 + (Z_meas − Z_empty)/(jωL0) [S: Radonić et al. 2010, PHYSICS.md §2]:
@@ -267,7 +286,7 @@ fn synthetic_empty_fixture_reference_returns_known_mu() {
         &setup,
     )
     .unwrap();
-    assert!(worst_error(&s) < 1e-6, "{}", worst_error(&s));
+    assert!(worst_error(&s) < EXACT_TOLERANCE, "{}", worst_error(&s));
 }
 
 // Gap (PHYSICS.md §2): a split core with 2 × 5 µm: the material μ comes back, and the apparent
@@ -286,7 +305,7 @@ fn synthetic_split_core_returns_material_mu() {
         8,
     );
     let s = extract(&[m], &ExtractSetup::new(c.clone())).unwrap();
-    assert!(worst_error(&s) < 1e-6);
+    assert!(worst_error(&s) < EXACT_TOLERANCE);
     let i = s.valid_indices()[0];
     let e = s.apparent_mu()[i];
     assert!(((1.0 / e) - (1.0 / s.mu[i] + 10e-6 / c.effective().le())).norm() < 1e-12);
@@ -329,7 +348,7 @@ fn round_trip_extract_of_inverse_is_identity() {
     )
     .unwrap();
     assert_eq!(s.valid_indices().len(), freq.len());
-    assert!(worst_error(&s) < 1e-12);
+    assert!(worst_error(&s) < EXACT_TOLERANCE);
 
     // Refused inputs: solving the lead needs different turns; turns must be positive.
     let m = Measurement { sweep, turns: 1.0 };
