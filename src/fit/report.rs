@@ -43,6 +43,12 @@ pub struct KkReport {
     pub m: usize,
     /// Under/over-fitting measure μ_c at the chosen M.
     pub mu_c: f64,
+    /// Largest moving average of the relative residuals (systematic misfit, not noise).
+    #[serde(default)]
+    pub drift_max: f64,
+    /// Basis of the Lin-KK fit: `debye`, or `debye+resonance` for resonant spectra.
+    #[serde(default)]
+    pub basis: String,
 }
 
 /// Where one source sweep came from and what was done to it.
@@ -76,6 +82,10 @@ pub struct FitReport {
     pub mu_inf: Estimate,
     pub terms: Vec<TermReport>,
     pub correlation: Vec<Vec<f64>>,
+    /// Labels of the rows and columns of `correlation` (`mu_inf`, `<kind>#<n>.<name>`): the
+    /// fitted parameters whose uncertainty is determined.
+    #[serde(default)]
+    pub correlation_params: Vec<String>,
     pub stats: FitStats,
     pub f_min_hz: f64,
     pub f_max_hz: f64,

@@ -1,0 +1,182 @@
+//! One fit, the Kramers–Kronig check of each source and the physics sanity → the one
+//! [`FitReport`] that feeds the text report, `--json`, the `-o` file and the material library.
+//!
+//! A fit may cover several sources (samples of one material fitted by one shared model). The
+//! report then lists the residuals source by source, in provenance order and each in ascending
+//! frequency (the layout the library's vetting reads), and the KK figures of the worst source.
+
+use super::engine::FitOutcome;
+use super::kk::KK_RESIDUAL_LIMIT;
+use super::report::{
+    Estimate, FitReport, KkReport, ResidualPoint, RunnerUp, SourceProvenance, TermReport,
+};
+use super::sanity::{self, SaturationPolarisation};
+use crate::C64;
+use std::collections::BTreeMap;
+
+/// One source of fitted data: a spectrum inside its valid band, where it came from, and what
+/// earlier stages had to say about it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SourceData {
+    /// The name the user knows it by (file name).
+    pub label: String,
+    /// Increasing frequencies and μ′ − jμ″.
+    pub freq_hz: Vec<f64>,
+    pub mu: Vec<C64>,
+    /// The sweeps behind it (several when windings were combined into one spectrum).
+    pub provenance: Vec<SourceProvenance>,
+    /// Warnings from ingest and extraction, passed through.
+    pub warnings: Vec<String>,
+}
+
+/// All sources' points merged in ascending frequency (stable, so equal frequencies keep the
+/// sources' order): the data a shared model is fitted to.
+pub fn merged(sources: &[SourceData]) -> (Vec<f64>, Vec<C64>) {
+    let mut pts: Vec<(f64, C64)> = sources
+        .iter()
+        .flat_map(|s| s.freq_hz.iter().copied().zip(s.mu.iter().copied()))
+        .collect();
+    pts.sort_by(|a, b| a.0.total_cmp(&b.0));
+    pts.into_iter().unzip()
+}
+
+/// Assemble the report. `kk[i]` is the Lin-KK result of `sources[i]`. Warnings come in
+/// pipeline order: earlier stages, the fit, the KK check, the physics sanity.
+pub fn build_report(
+    outcome: &FitOutcome,
+    sources: &[SourceData],
+    kk: &[KkReport],
+    js: SaturationPolarisation,
+    runner_up: Option<RunnerUp>,
+) -> FitReport {
+    let flat = outcome.model.to_params();
+    let estimate = |k: usize| Estimate {
+        value: flat[k],
+        stderr: outcome.stderr[k],
+    };
+    let mut at = 1;
+    let terms = outcome
+        .model
+        .terms
+        .iter()
+        .map(|t| {
+            let names = t.kind.param_names();
+            let params: BTreeMap<String, Estimate> = names
+                .iter()
+                .enumerate()
+                .map(|(i, n)| (n.to_string(), estimate(at + i)))
+                .collect();
+            at += names.len();
+            TermReport {
+                kind: t.kind.name().to_string(),
+                params,
+            }
+        })
+        .collect();
+    let several = sources.len() > 1;
+    let tag = |s: &SourceData, w: &str| {
+        if several {
+            format!("{}: {}", s.label, w)
+        } else {
+            w.to_string()
+        }
+    };
+    let mut warnings: Vec<String> = sources
+        .iter()
+        .flat_map(|s| s.warnings.iter().map(move |w| tag(s, w)))
+        .collect();
+    warnings.extend(outcome.warnings.iter().cloned());
+    warnings.extend(
+        sources
+            .iter()
+            .zip(kk)
+            .filter_map(|(s, k)| kk_warning(k).map(|w| tag(s, &w))),
+    );
+    let (freq, mu) = merged(sources);
+    warnings.extend(sanity::warnings(&freq, &mu, &outcome.model, js));
+    let residuals = sources
+        .iter()
+        .flat_map(|s| {
+            s.freq_hz.iter().zip(&s.mu).map(|(&f, m)| {
+                let r = (outcome.model.mu(f) - m) / m.norm();
+                ResidualPoint {
+                    freq_hz: f,
+                    re: r.re,
+                    im: r.im,
+                }
+            })
+        })
+        .collect();
+    FitReport {
+        source: sources
+            .iter()
+            .map(|s| s.label.as_str())
+            .collect::<Vec<_>>()
+            .join(" + "),
+        model: outcome.model.spec(),
+        mu_inf: estimate(0),
+        terms,
+        correlation: outcome.correlation.clone(),
+        correlation_params: outcome.correlation_labels.clone(),
+        stats: outcome.stats.clone(),
+        f_min_hz: freq.first().copied().unwrap_or(0.0),
+        f_max_hz: freq.last().copied().unwrap_or(0.0),
+        kk: worst_kk(kk),
+        warnings,
+        runner_up,
+        provenance: sources
+            .iter()
+            .flat_map(|s| s.provenance.iter().cloned())
+            .collect(),
+        residuals,
+    }
+}
+
+/// The KK figures of the worst source: it passes only if every source passes.
+fn worst_kk(kk: &[KkReport]) -> KkReport {
+    let worst = kk.iter().max_by(|a, b| {
+        (!a.pass, a.residual_rms)
+            .partial_cmp(&(!b.pass, b.residual_rms))
+            .unwrap_or(std::cmp::Ordering::Equal)
+    });
+    match worst {
+        Some(w) => KkReport {
+            pass: kk.iter().all(|k| k.pass),
+            ..w.clone()
+        },
+        None => KkReport {
+            pass: false,
+            residual_rms: 0.0,
+            residual_max: 0.0,
+            m: 0,
+            mu_c: 0.0,
+            drift_max: 0.0,
+            basis: String::new(),
+        },
+    }
+}
+
+/// A failing KK check is a warning on the fit (and blocks vetting in the library).
+fn kk_warning(kk: &KkReport) -> Option<String> {
+    (!kk.pass).then(|| {
+        format!(
+            "the spectrum fails the Kramers–Kronig check (Lin-KK, {} basis, M = {}): residual RMS {:.2} %, drift {:.2} % \
+             (limit {:.0} %); as measured it is not a causal material response — check the valid band, fixture and lead \
+             corrections before publishing",
+            kk.basis,
+            kk.m,
+            100.0 * kk.residual_rms,
+            100.0 * kk.drift_max,
+            100.0 * KK_RESIDUAL_LIMIT
+        )
+    })
+}
+
+/// The report as `--json` prints it: without provenance and residuals.
+pub fn json_view(report: &FitReport) -> FitReport {
+    FitReport {
+        provenance: Vec::new(),
+        residuals: Vec::new(),
+        ..report.clone()
+    }
+}

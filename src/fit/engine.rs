@@ -1,0 +1,505 @@
+//! The fit itself: multi-start Levenberg–Marquardt on the relative complex residuals, the
+//! uncertainty of the optimum, the statistics that compare models, and model choice by BIC.
+//!
+//! - **Multi-start.** [`super::start::starts`] reads several plausible starts from the data;
+//!   each is run to convergence and the lowest cost wins, so a spin + wall spectrum does not stop
+//!   in the local minimum its first reading leads to.
+//! - **Uncertainty** (issue: fitting engine, item 5). C_int = s²(JᵀJ)⁻¹ at the optimum in the
+//!   solver's transformed coordinates, s² = 2·cost/(m − p); mapped to model units by the delta
+//!   method C = G·C_int·G with G = diag(∂external/∂internal), which equals s²(J_extᵀJ_ext)⁻¹.
+//!   When an exponent sits on its bound (α or β → 1, the Debye limit) its column vanishes and
+//!   the covariance of the others is computed without it; its standard error is then not given.
+//! - **Statistics.** m = points = 2 × frequencies real residuals, RSS = Σr² = 2·cost, p = free
+//!   parameters; rms_rel = √(RSS/m); max_rel = max |μ_model − μ_meas|/|μ_meas|;
+//!   chi2_reduced = RSS/(m − p) (the residuals are relative errors with unknown σ, so this is the
+//!   variance s² of a relative residual, not a χ² in units of a stated σ);
+//!   AIC = m·ln(RSS/m) + 2p and BIC = m·ln(RSS/m) + p·ln m (Gaussian likelihood with σ estimated,
+//!   constants dropped; Schwarz, Ann. Statist. 6, 461 (1978)).
+
+use super::lm::{covariance, minimize, LmConfig, LmOutcome};
+use super::problem::MuProblem;
+use super::report::{FitStats, RunnerUp};
+use super::screen;
+use super::start;
+use super::transform::Transform;
+use super::FitError;
+use crate::error::Diagnostic;
+use crate::model::{Model, TermKind};
+use crate::C64;
+use ndarray::{Array1, Array2};
+use rayon::prelude::*;
+
+/// An exponent whose logistic slope ∂α/∂u is below this is on its bound: a change of the
+/// solver's coordinate no longer moves it (α > 0.9999).
+const PINNED_SLOPE: f64 = 1e-4;
+/// A term whose f_r lies this many decades outside the fitted band is reported as poorly determined.
+const OUTSIDE_BAND_DECADES: f64 = 1.0;
+/// Starts read from the spectrum's features, and from the separable grid screen.
+const FEATURE_STARTS: usize = 4;
+const GRID_STARTS: usize = 4;
+/// Points kept for screening the starts, their looser tolerances, and how many screened optima
+/// are run to convergence on all the data.
+const SCREEN_POINTS: usize = 200;
+const SCREEN_TOL: f64 = 1e-7;
+const POLISHED: usize = 2;
+
+/// How to fit.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FitOptions {
+    /// Fit μ∞ (otherwise it is held at [`FitOptions::mu_inf`]).
+    pub free_mu_inf: bool,
+    /// μ∞ when held, and its start when free (1: no magnetic response left far above the band).
+    pub mu_inf: f64,
+    pub lm: LmConfig,
+    /// Most starts tried per model.
+    pub max_starts: usize,
+}
+
+impl Default for FitOptions {
+    fn default() -> Self {
+        FitOptions {
+            free_mu_inf: false,
+            mu_inf: 1.0,
+            lm: LmConfig::default(),
+            max_starts: FEATURE_STARTS + GRID_STARTS,
+        }
+    }
+}
+
+/// The best fit of one model family.
+#[derive(Debug, Clone)]
+pub struct FitOutcome {
+    pub model: Model,
+    pub free_mu_inf: bool,
+    /// Labels of the parameters of [`Model::to_params`], e.g. `mu_inf`, `debye#1.f_hz`.
+    pub labels: Vec<String>,
+    /// Standard error of each parameter of [`Model::to_params`]; `None` when held fixed or not
+    /// determined (on a bound, or the covariance is singular).
+    pub stderr: Vec<Option<f64>>,
+    /// Labels of the rows/columns of [`FitOutcome::correlation`] (the determined free parameters).
+    pub correlation_labels: Vec<String>,
+    pub correlation: Vec<Vec<f64>>,
+    /// Covariance of the same parameters, in model units.
+    pub covariance: Vec<Vec<f64>>,
+    pub stats: FitStats,
+    /// (μ_model − μ_meas)/|μ_meas| at each frequency.
+    pub residuals: Vec<C64>,
+    pub converged: bool,
+    pub termination: String,
+    /// Starts run, and which of them (0-based) gave this optimum.
+    pub starts_tried: usize,
+    pub best_start: usize,
+    /// Fit-specific warnings (not converged, bound reached, poorly determined parameters).
+    pub warnings: Vec<String>,
+}
+
+impl FitOutcome {
+    /// The model's values at `freq_hz`.
+    pub fn fitted(&self, freq_hz: &[f64]) -> Vec<C64> {
+        freq_hz.iter().map(|&f| self.model.mu(f)).collect()
+    }
+}
+
+/// Labels of the flat parameter vector: `mu_inf`, then `<kind>#<n>.<name>` with n from 1.
+pub fn param_labels(kinds: &[TermKind]) -> Vec<String> {
+    let mut out = vec!["mu_inf".to_string()];
+    for (i, k) in kinds.iter().enumerate() {
+        out.extend(
+            k.param_names()
+                .iter()
+                .map(|n| format!("{}#{}.{}", k.name(), i + 1, n)),
+        );
+    }
+    out
+}
+
+/// Fit `kinds` to `mu` (μ′ − jμ″ at `freq_hz`) from the data's own starts; the best optimum.
+pub fn fit_model(
+    freq_hz: &[f64],
+    mu: &[C64],
+    kinds: &[TermKind],
+    opts: &FitOptions,
+) -> Result<FitOutcome, FitError> {
+    let (fs, ms) = decimate(freq_hz, mu);
+    let mut starts = start::starts(freq_hz, mu, kinds, opts.mu_inf);
+    starts.truncate(FEATURE_STARTS);
+    let more = greedy_start(&fs, &ms, kinds, opts)
+        .into_iter()
+        .chain(screen::grid_starts(
+            &fs,
+            &ms,
+            kinds,
+            opts.mu_inf,
+            opts.free_mu_inf,
+            GRID_STARTS,
+        ));
+    for s in more {
+        start::push_distinct(&mut starts, s);
+    }
+    starts.truncate(opts.max_starts.max(1));
+    fit_from_starts(freq_hz, mu, kinds, &starts, opts)
+}
+
+/// A start built term by term: place the term (of the kinds still to place) that best explains
+/// the data together with those already placed, refine all placed terms by least squares on the
+/// (decimated) data, repeat. A small term beside a large one is then looked for against the
+/// large one's exact shape rather than a grid approximation of it.
+fn greedy_start(
+    freq_hz: &[f64],
+    mu: &[C64],
+    kinds: &[TermKind],
+    opts: &FitOptions,
+) -> Option<Model> {
+    let cfg = screen_config(opts);
+    let mut placed = Model {
+        mu_inf: opts.mu_inf,
+        terms: Vec::new(),
+    };
+    let mut left = kinds.to_vec();
+    while !left.is_empty() {
+        let mut tried: Vec<TermKind> = Vec::new();
+        let mut best: Option<(usize, screen::Screened)> = None;
+        for (i, &k) in left.iter().enumerate() {
+            if tried.contains(&k) {
+                continue;
+            }
+            tried.push(k);
+            if let Some(s) = screen::best_extension(freq_hz, mu, &placed, k, opts.free_mu_inf) {
+                if best.as_ref().map_or(true, |(_, b)| s.cost < b.cost) {
+                    best = Some((i, s));
+                }
+            }
+        }
+        let (i, s) = best?;
+        left.remove(i);
+        let problem = MuProblem::new(
+            freq_hz.to_vec(),
+            mu.to_vec(),
+            s.model.kinds(),
+            opts.free_mu_inf,
+            opts.mu_inf,
+        )
+        .ok()?;
+        let out = minimize(problem.clone(), problem.to_internal(&s.model), &cfg).ok()?;
+        placed = problem.to_model(&out.params);
+    }
+    // Back into the order of `kinds`: each kind takes the first placed term of that kind left.
+    let mut pool = placed.terms;
+    let terms = kinds
+        .iter()
+        .map(|&k| {
+            pool.iter()
+                .position(|t| t.kind == k)
+                .map(|i| pool.remove(i))
+        })
+        .collect::<Option<Vec<_>>>()?;
+    Some(Model {
+        mu_inf: placed.mu_inf,
+        terms,
+    })
+}
+
+/// Solver settings for screening: the caller's, with looser tolerances.
+fn screen_config(opts: &FitOptions) -> LmConfig {
+    LmConfig {
+        ftol: SCREEN_TOL,
+        xtol: SCREEN_TOL,
+        gtol: SCREEN_TOL,
+        ..opts.lm.clone()
+    }
+}
+
+/// Every k-th point, so that about [`SCREEN_POINTS`] remain (all of them if there are few).
+fn decimate(freq_hz: &[f64], mu: &[C64]) -> (Vec<f64>, Vec<C64>) {
+    let step = freq_hz.len().div_ceil(SCREEN_POINTS).max(1);
+    let keep = |i: &usize| i % step == 0 || *i == freq_hz.len() - 1;
+    let idx: Vec<usize> = (0..freq_hz.len()).filter(keep).collect();
+    (
+        idx.iter().map(|&i| freq_hz[i]).collect(),
+        idx.iter().map(|&i| mu[i]).collect(),
+    )
+}
+
+/// Fit from given start models (all of `kinds`); the best optimum. With several starts, each is
+/// first run on a decimated copy of the data (cheap, and it lands in the same basin); the best
+/// [`POLISHED`] distinct optima are then run to convergence on all the data.
+pub fn fit_from_starts(
+    freq_hz: &[f64],
+    mu: &[C64],
+    kinds: &[TermKind],
+    starts: &[Model],
+    opts: &FitOptions,
+) -> Result<FitOutcome, FitError> {
+    if kinds.is_empty() || starts.is_empty() {
+        return Err(FitError(
+            Diagnostic::new("the model has no terms").hint("e.g. --model debye+lorentz"),
+        ));
+    }
+    let problem = MuProblem::new(
+        freq_hz.to_vec(),
+        mu.to_vec(),
+        kinds.to_vec(),
+        opts.free_mu_inf,
+        opts.mu_inf,
+    )?;
+    let (fs, ms) = decimate(freq_hz, mu);
+    // Screen on the decimated data when it is smaller; otherwise every start is polished.
+    let mut polish: Vec<(usize, Model)> = starts.iter().cloned().enumerate().collect();
+    if starts.len() > 1 && fs.len() < freq_hz.len() {
+        let small = MuProblem::new(fs, ms, kinds.to_vec(), opts.free_mu_inf, opts.mu_inf)?;
+        let cfg = screen_config(opts);
+        let mut screened: Vec<(f64, usize, Model)> = starts
+            .iter()
+            .enumerate()
+            .filter_map(|(i, s)| {
+                minimize(small.clone(), small.to_internal(s), &cfg)
+                    .ok()
+                    .filter(|o| o.cost.is_finite())
+                    .map(|o| (o.cost, i, small.to_model(&o.params)))
+            })
+            .collect();
+        screened.sort_by(|a, b| a.0.total_cmp(&b.0));
+        polish.clear();
+        for (_, i, m) in screened {
+            let kept: Vec<Model> = polish.iter().map(|(_, p)| p.clone()).collect();
+            if start::is_new(&kept, &m) {
+                polish.push((i, m));
+            }
+            if polish.len() == POLISHED {
+                break;
+            }
+        }
+        if polish.is_empty() {
+            polish = starts.iter().cloned().enumerate().collect();
+        }
+    }
+    let mut best: Option<(usize, LmOutcome)> = None;
+    let mut last_err = None;
+    for (i, s) in &polish {
+        match minimize(problem.clone(), problem.to_internal(s), &opts.lm) {
+            Ok(out) if out.cost.is_finite() => {
+                if best.as_ref().map_or(true, |(_, b)| out.cost < b.cost) {
+                    best = Some((*i, out));
+                }
+            }
+            Ok(_) => {}
+            Err(e) => last_err = Some(e),
+        }
+    }
+    let Some((best_start, out)) = best else {
+        return Err(last_err.unwrap_or_else(|| {
+            FitError(Diagnostic::new(format!(
+                "no start of '{}' gave a finite cost",
+                spec_of(kinds)
+            )))
+        }));
+    };
+    Ok(finish(&problem, out, starts.len(), best_start))
+}
+
+fn spec_of(kinds: &[TermKind]) -> String {
+    kinds.iter().map(|k| k.name()).collect::<Vec<_>>().join("+")
+}
+
+/// Statistics of a fit with `n_free` parameters and relative residuals `res`.
+pub fn fit_stats(res: &[C64], n_free: usize, iterations: usize) -> FitStats {
+    let points = 2 * res.len();
+    let rss: f64 = res.iter().map(|r| r.norm_sqr()).sum();
+    let m = points as f64;
+    let log_term = m * (rss / m).max(f64::MIN_POSITIVE).ln();
+    FitStats {
+        cost: 0.5 * rss,
+        rms_rel: (rss / m).sqrt(),
+        max_rel: res.iter().map(|r| r.norm()).fold(0.0, f64::max),
+        chi2_reduced: rss / points.saturating_sub(n_free).max(1) as f64,
+        aic: log_term + 2.0 * n_free as f64,
+        bic: log_term + n_free as f64 * m.ln(),
+        points,
+        iterations,
+    }
+}
+
+/// Covariance of the determined parameters in model units: (indices into the internal vector,
+/// matrix). Parameters on a bound are left out so the rest stay determined.
+fn external_covariance(problem: &MuProblem, out: &LmOutcome) -> Option<(Vec<usize>, Array2<f64>)> {
+    let n = problem.n_params();
+    let slopes = problem.external_derivatives(&out.params);
+    let names = problem.param_names();
+    let keep: Vec<usize> = (0..n)
+        .filter(|&i| !(Transform::of(names[i]) == Transform::Logistic && slopes[i] < PINNED_SLOPE))
+        .collect();
+    let j = Array2::from_shape_fn((out.jacobian.nrows(), keep.len()), |(r, c)| {
+        out.jacobian[[r, keep[c]]]
+    });
+    // Degrees of freedom count every fitted parameter, pinned or not.
+    let cov_int = covariance(&j, out.cost, n)?;
+    let g: Array1<f64> = keep.iter().map(|&i| slopes[i]).collect();
+    Some((
+        keep,
+        Array2::from_shape_fn(cov_int.dim(), |(a, b)| g[a] * cov_int[[a, b]] * g[b]),
+    ))
+}
+
+fn finish(
+    problem: &MuProblem,
+    out: LmOutcome,
+    starts_tried: usize,
+    best_start: usize,
+) -> FitOutcome {
+    let model = problem.to_model(&out.params);
+    let kinds = problem.kinds().to_vec();
+    let labels = param_labels(&kinds);
+    let index = problem.model_indices();
+    let names = problem.param_names();
+    let residuals = problem.relative_errors(&model);
+    let stats = fit_stats(&residuals, problem.n_params(), out.iterations);
+    let mut warnings = Vec::new();
+    if !out.converged {
+        warnings.push(format!(
+            "the solver stopped without converging: {}",
+            out.termination
+        ));
+    }
+    let flat = model.to_params();
+    let slopes = problem.external_derivatives(&out.params);
+    for i in 0..problem.n_params() {
+        if Transform::of(names[i]) == Transform::Logistic && slopes[i] < PINNED_SLOPE {
+            warnings.push(format!(
+                "{} = {:.6} is on its bound 1 (the data prefer the simpler limit of this term); its standard error is not given",
+                labels[index[i]], flat[index[i]]
+            ));
+        }
+    }
+    let mut stderr = vec![None; flat.len()];
+    let (mut corr_labels, mut corr, mut cov_out) = (Vec::new(), Vec::new(), Vec::new());
+    match external_covariance(problem, &out) {
+        Some((keep, cov)) => {
+            let sd: Vec<f64> = (0..keep.len()).map(|a| cov[[a, a]].max(0.0).sqrt()).collect();
+            for (a, &i) in keep.iter().enumerate() {
+                stderr[index[i]] = sd[a].is_finite().then_some(sd[a]);
+                corr_labels.push(labels[index[i]].clone());
+                corr.push(
+                    (0..keep.len())
+                        .map(|b| cov[[a, b]] / (sd[a] * sd[b]))
+                        .map(|r| if r.is_finite() { r } else { 0.0 })
+                        .collect(),
+                );
+                cov_out.push((0..keep.len()).map(|b| cov[[a, b]]).collect());
+            }
+        }
+        None => warnings.push(
+            "the covariance is singular: some parameters are not determined by the data (a term may be superfluous); \
+             no standard errors are given"
+                .to_string(),
+        ),
+    }
+    let (f_lo, f_hi) = (
+        problem.freq_hz()[0],
+        problem.freq_hz()[problem.freq_hz().len() - 1],
+    );
+    for (t, term) in model.terms.iter().enumerate() {
+        let outside = (f_lo / term.f_hz).log10().max((term.f_hz / f_hi).log10());
+        if outside > OUTSIDE_BAND_DECADES {
+            warnings.push(format!(
+                "{}#{}.f_hz = {:.4e} Hz lies {:.1} decades outside the fitted band {:.4e}–{:.4e} Hz; it is poorly determined",
+                term.kind.name(),
+                t + 1,
+                term.f_hz,
+                outside,
+                f_lo,
+                f_hi
+            ));
+        }
+    }
+    FitOutcome {
+        model,
+        free_mu_inf: problem.free_mu_inf(),
+        labels,
+        stderr,
+        correlation_labels: corr_labels,
+        correlation: corr,
+        covariance: cov_out,
+        stats,
+        residuals,
+        converged: out.converged,
+        termination: out.termination,
+        starts_tried,
+        best_start,
+        warnings,
+    }
+}
+
+/// One candidate of an automatic model choice.
+#[derive(Debug, Clone)]
+pub struct Candidate {
+    pub spec: String,
+    /// BIC of its best fit, or why it could not be fitted.
+    pub bic: Result<f64, String>,
+}
+
+/// The result of `--model auto`.
+#[derive(Debug, Clone)]
+pub struct AutoOutcome {
+    pub best: FitOutcome,
+    pub runner_up: Option<RunnerUp>,
+    pub candidates: Vec<Candidate>,
+}
+
+/// The families `auto` tries: every single kind, each relaxation with a resonance, two
+/// relaxations, two resonances, and the spin + wall triples most used for sintered ferrites.
+pub fn auto_candidates() -> Vec<Vec<TermKind>> {
+    use TermKind::*;
+    let mut c: Vec<Vec<TermKind>> = TermKind::ALL.iter().map(|&k| vec![k]).collect();
+    c.extend(
+        [Debye, ColeCole, ColeDavidson, HavriliakNegami]
+            .iter()
+            .map(|&k| vec![k, Lorentz]),
+    );
+    c.push(vec![Debye, Debye]);
+    c.push(vec![Lorentz, Lorentz]);
+    c.push(vec![Debye, Debye, Lorentz]);
+    c.push(vec![Debye, Lorentz, Lorentz]);
+    c.push(vec![ColeCole, Lorentz, Lorentz]);
+    c
+}
+
+/// Fit every candidate of [`auto_candidates`] (in parallel) and keep the lowest BIC.
+pub fn fit_auto(freq_hz: &[f64], mu: &[C64], opts: &FitOptions) -> Result<AutoOutcome, FitError> {
+    let results: Vec<(Vec<TermKind>, Result<FitOutcome, FitError>)> = auto_candidates()
+        .into_par_iter()
+        .map(|k| {
+            let r = fit_model(freq_hz, mu, &k, opts);
+            (k, r)
+        })
+        .collect();
+    let candidates: Vec<Candidate> = results
+        .iter()
+        .map(|(k, r)| Candidate {
+            spec: spec_of(k),
+            bic: r.as_ref().map(|o| o.stats.bic).map_err(|e| e.to_string()),
+        })
+        .collect();
+    let mut ok: Vec<FitOutcome> = results.into_iter().filter_map(|(_, r)| r.ok()).collect();
+    ok.sort_by(|a, b| a.stats.bic.total_cmp(&b.stats.bic));
+    let mut it = ok.into_iter();
+    let best = it.next().ok_or_else(|| {
+        let why = candidates
+            .iter()
+            .filter_map(|c| c.bic.as_ref().err())
+            .next()
+            .cloned()
+            .unwrap_or_default();
+        FitError(Diagnostic::new(format!(
+            "no candidate model could be fitted: {why}"
+        )))
+    })?;
+    let runner_up = it.next().map(|r| RunnerUp {
+        model: r.model.spec(),
+        delta_bic: r.stats.bic - best.stats.bic,
+    });
+    Ok(AutoOutcome {
+        best,
+        runner_up,
+        candidates,
+    })
+}

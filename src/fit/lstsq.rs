@@ -1,0 +1,223 @@
+//! Linear least squares by Householder QR with column pivoting (Businger & Golub 1965; Golub &
+//! Van Loan, Matrix Computations, §5.4.1), for the Lin-KK fit whose Debye and resonance basis
+//! columns are nearly collinear. Normal equations would square that conditioning; pivoted QR
+//! instead finds the numerical rank and leaves dependent columns at zero weight.
+//!
+//! Matrices are held as a list of columns (each column contiguous), the layout the Householder
+//! updates walk through.
+
+/// A column-pivoted QR factorisation A·P = Q·R of a tall matrix, stored compactly: R on and
+/// above the diagonal of the first `rank` columns, the Householder vectors below it.
+#[derive(Debug, Clone)]
+pub struct PivotedQr {
+    /// Factorised columns in pivoted order.
+    cols: Vec<Vec<f64>>,
+    /// Householder scalars τ_k of the reflectors I − τ_k v_k v_kᵀ (v_k[k] = 1 implied).
+    tau: Vec<f64>,
+    /// `perm[k]` is the original index of pivoted column k.
+    perm: Vec<usize>,
+    rank: usize,
+    rows: usize,
+}
+
+impl PivotedQr {
+    /// Factor the columns `cols` (all of the same length). Elimination stops when the largest
+    /// remaining column norm falls below `rank_rtol` times the largest original column norm;
+    /// the columns not eliminated by then are numerically dependent on the others.
+    pub fn factor(mut cols: Vec<Vec<f64>>, rank_rtol: f64) -> PivotedQr {
+        let rows = cols.first().map_or(0, Vec::len);
+        let n = cols.len();
+        let mut perm: Vec<usize> = (0..n).collect();
+        let mut tau = Vec::with_capacity(n.min(rows));
+        let first_norm = cols.iter().map(|c| norm(c)).fold(0.0, f64::max);
+        let mut rank = 0;
+        for k in 0..n.min(rows) {
+            // Pivot: the remaining column with the largest norm below row k.
+            let (best, best_norm) =
+                (k..n)
+                    .map(|j| (j, norm(&cols[j][k..])))
+                    .fold(
+                        (k, -1.0),
+                        |acc, (j, v)| if v > acc.1 { (j, v) } else { acc },
+                    );
+            if !(best_norm > rank_rtol * first_norm) {
+                break;
+            }
+            cols.swap(k, best);
+            perm.swap(k, best);
+            let t = make_reflector(&mut cols[k][k..]);
+            let (done, rest) = cols.split_at_mut(k + 1);
+            let v = &done[k][k..];
+            for c in rest.iter_mut() {
+                apply_reflector(v, t, &mut c[k..]);
+            }
+            tau.push(t);
+            rank += 1;
+        }
+        PivotedQr {
+            cols,
+            tau,
+            perm,
+            rank,
+            rows,
+        }
+    }
+
+    /// Numerical rank found by the factorisation.
+    pub fn rank(&self) -> usize {
+        self.rank
+    }
+
+    /// b ← Qᵀ·b for a vector of the matrix's row count.
+    pub fn apply_qt(&self, b: &mut [f64]) {
+        debug_assert_eq!(b.len(), self.rows);
+        for (k, &t) in self.tau.iter().enumerate() {
+            apply_reflector(&self.cols[k][k..], t, &mut b[k..]);
+        }
+    }
+
+    /// Solve R₁₁·y = c[..rank] and return x in the original column order, zero for the columns
+    /// left out as dependent. `c` is Qᵀb (or a right-hand side already reduced by other terms).
+    pub fn solve_triangular(&self, c: &[f64]) -> Vec<f64> {
+        let r = self.rank;
+        let mut y = c[..r].to_vec();
+        for i in (0..r).rev() {
+            let mut s = y[i];
+            for j in i + 1..r {
+                s -= self.cols[j][i] * y[j];
+            }
+            y[i] = s / self.cols[i][i];
+        }
+        let mut x = vec![0.0; self.cols.len()];
+        for (k, v) in y.into_iter().enumerate() {
+            x[self.perm[k]] = v;
+        }
+        x
+    }
+}
+
+/// Least-squares solution of min ‖A·x − b‖ for A given by columns. Columns are scaled to unit
+/// norm first so the rank decision compares directions, not units; the solution is unscaled.
+pub fn lstsq(mut cols: Vec<Vec<f64>>, b: &[f64], rank_rtol: f64) -> Vec<f64> {
+    let scale: Vec<f64> = cols.iter_mut().map(|c| normalise(c)).collect();
+    let qr = PivotedQr::factor(cols, rank_rtol);
+    let mut c = b.to_vec();
+    qr.apply_qt(&mut c);
+    qr.solve_triangular(&c)
+        .into_iter()
+        .zip(scale)
+        .map(|(x, s)| x * s)
+        .collect()
+}
+
+/// Scale `c` to unit norm and return the factor that undoes it on the coefficient (1/‖c‖),
+/// or 0 for a zero column (its coefficient is then 0).
+pub fn normalise(c: &mut [f64]) -> f64 {
+    let n = norm(c);
+    if n > 0.0 {
+        c.iter_mut().for_each(|v| *v /= n);
+        1.0 / n
+    } else {
+        0.0
+    }
+}
+
+fn norm(v: &[f64]) -> f64 {
+    // Scaled sum of squares: basis columns span many decades and must not overflow.
+    let big = v.iter().fold(0.0f64, |m, x| m.max(x.abs()));
+    if big == 0.0 || !big.is_finite() {
+        return big;
+    }
+    big * v.iter().map(|x| (x / big) * (x / big)).sum::<f64>().sqrt()
+}
+
+/// Turn `x` into the Householder vector v (v[0] = 1 implied, stored below) with R's diagonal
+/// entry in x[0]; returns τ. Sign chosen to avoid cancellation (Golub & Van Loan Alg. 5.1.1).
+fn make_reflector(x: &mut [f64]) -> f64 {
+    let alpha = x[0];
+    let sigma = norm(&x[1..]);
+    if sigma == 0.0 {
+        return 0.0;
+    }
+    let beta = -alpha.signum() * alpha.hypot(sigma);
+    let beta = if beta == 0.0 { -sigma } else { beta };
+    let t = (beta - alpha) / beta;
+    let s = 1.0 / (alpha - beta);
+    x[1..].iter_mut().for_each(|v| *v *= s);
+    x[0] = beta;
+    t
+}
+
+/// y ← (I − τ v vᵀ) y with v = [1, v[1..]] stored in `v` (its first entry is R's, not 1).
+fn apply_reflector(v: &[f64], t: f64, y: &mut [f64]) {
+    if t == 0.0 {
+        return;
+    }
+    let dot = y[0] + v[1..].iter().zip(&y[1..]).map(|(a, b)| a * b).sum::<f64>();
+    let s = t * dot;
+    y[0] -= s;
+    y[1..]
+        .iter_mut()
+        .zip(&v[1..])
+        .for_each(|(yi, vi)| *yi -= s * vi);
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Straight-line fit y = a + b·x against the closed-form least-squares estimates
+    /// b = Sxy/Sxx, a = ȳ − b·x̄ (Draper & Smith, Applied Regression Analysis, §1.2).
+    #[test]
+    fn straight_line_matches_closed_form_estimates() {
+        let x = [0.0, 1.0, 2.0, 3.0, 4.0, 5.0];
+        let y = [1.1, 2.9, 5.2, 7.1, 8.8, 11.2];
+        let n = x.len() as f64;
+        let (xm, ym) = (x.iter().sum::<f64>() / n, y.iter().sum::<f64>() / n);
+        let sxx: f64 = x.iter().map(|v| (v - xm) * (v - xm)).sum();
+        let sxy: f64 = x.iter().zip(&y).map(|(a, b)| (a - xm) * (b - ym)).sum();
+        let b = sxy / sxx;
+        let a = ym - b * xm;
+        let sol = lstsq(vec![vec![1.0; 6], x.to_vec()], &y, 1e-12);
+        assert!(
+            (sol[0] - a).abs() < 1e-12 && (sol[1] - b).abs() < 1e-12,
+            "{sol:?} vs {a} {b}"
+        );
+    }
+
+    /// The 5×5 Hilbert system H·x = H·1 has the exact solution x = 1; its condition number
+    /// ~4.8e5 (Higham, Accuracy and Stability of Numerical Algorithms, §28.1) tests the
+    /// factorisation's accuracy beyond a well-conditioned case.
+    #[test]
+    fn hilbert5_system_is_solved_to_its_conditioning() {
+        let cols: Vec<Vec<f64>> = (0..5)
+            .map(|j| (0..5).map(|i| 1.0 / (i + j + 1) as f64).collect())
+            .collect();
+        let b: Vec<f64> = (0..5)
+            .map(|i| (0..5).map(|j| 1.0 / (i + j + 1) as f64).sum())
+            .collect();
+        let x = lstsq(cols, &b, 1e-14);
+        for v in x {
+            assert!((v - 1.0).abs() < 1e-9, "{v}");
+        }
+    }
+
+    /// A duplicated column is dependent: rank drops by one and the fit is unchanged.
+    #[test]
+    fn dependent_column_is_dropped_not_amplified() {
+        let x: Vec<f64> = (0..8).map(|i| i as f64).collect();
+        let y: Vec<f64> = x.iter().map(|v| 2.0 + 3.0 * v).collect();
+        let cols = vec![vec![1.0; 8], x.clone(), x.iter().map(|v| 2.0 * v).collect()];
+        let qr = PivotedQr::factor(cols.clone(), 1e-12);
+        assert_eq!(qr.rank(), 2);
+        let sol = lstsq(cols, &y, 1e-12);
+        let fit: Vec<f64> = x
+            .iter()
+            .map(|v| sol[0] + sol[1] * v + sol[2] * 2.0 * v)
+            .collect();
+        for (f, t) in fit.iter().zip(&y) {
+            assert!((f - t).abs() < 1e-10);
+        }
+        assert!(sol.iter().all(|v| v.abs() < 10.0), "{sol:?}");
+    }
+}
