@@ -20,6 +20,8 @@ pub fn create_new(path: &Path, bytes: &[u8]) -> Result<(), LibraryError> {
         .suffix(".tmp")
         .tempfile_in(dir)
         .map_err(|e| io_error("cannot create a temporary file", dir, e))?;
+    crate::fsutil::readable_by_all(tmp.as_file())
+        .map_err(|e| io_error("cannot set permissions of", tmp.path(), e))?;
     tmp.write_all(bytes)
         .map_err(|e| io_error("cannot write", tmp.path(), e))?;
     tmp.as_file()

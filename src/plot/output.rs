@@ -1,6 +1,5 @@
-//! Writing a figure as SVG or PNG, chosen by the file's extension. Both need a system TrueType
-//! font ([`super::font`]): plotters lays out label text with it even for SVG. The file appears
-//! whole or not at all.
+//! Writing a figure as SVG or PNG, chosen by the file's extension. Both lay out their labels with
+//! the built-in font ([`super::font`]). The file appears whole or not at all.
 
 use super::PlotError;
 use crate::error::Diagnostic;
@@ -28,14 +27,7 @@ pub fn write_figure(path: &Path, fig: &impl Figure) -> Result<(), PlotError> {
             .hint("e.g. --plot mu.svg")
             .into());
     }
-    super::font::ensure_png_font().map_err(|e| {
-        let mut d = e.0.file(path);
-        d.message = format!(
-            "{} plots need a TrueType font for their labels, and none was found",
-            ext.to_uppercase()
-        );
-        PlotError(d)
-    })?;
+    super::font::ensure_png_font()?;
     if ext == "svg" {
         let svg = render_svg(fig)?;
         return crate::fsutil::write_atomic(path, svg.as_bytes()).map_err(|e| PlotError(e.0));
@@ -69,6 +61,7 @@ fn write_png(path: &Path, fig: &impl Figure) -> Result<(), PlotError> {
         .suffix(".png")
         .tempfile_in(&folder)
         .map_err(|e| io("create a temporary file", e))?;
+    crate::fsutil::readable_by_all(tmp.as_file()).map_err(|e| io("set permissions", e))?;
     {
         let root = BitMapBackend::new(tmp.path(), fig.size()).into_drawing_area();
         fig.draw(&root).map_err(drawing_error)?;
