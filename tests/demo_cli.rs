@@ -47,11 +47,27 @@ fn generator_toroid_impedance_matches_physics_worked_check_20_10_10() {
 }
 
 // Determinism: the CLI's --regenerate and the library writer, run into two fresh folders, give
-// the same bytes as each other and as the committed raw_measurements/.
+// the same bytes as each other and as the committed raw_measurements/. The demo library the
+// regenerating run publishes (fitted_models/) lists the same versions, statuses and model
+// families as the committed one, which passes `library verify`.
 #[test]
 fn regenerate_twice_gives_identical_bytes_equal_to_the_committed_files() {
     let a = Scratch::new();
     mucurve_in(a.dir.path(), &["demo", "--regenerate", "--out", "work"]).ok();
+    let listing = |dir: &Path| {
+        let run = mucurve(&["library", "list", "--json", "--library", dir.to_str().unwrap()]).ok();
+        let rows: Vec<serde_json::Value> = serde_json::from_str(&run.stdout).unwrap();
+        rows.iter()
+            .map(|r| format!("{}@{} {} {}", r["material"], r["version"], r["status"], r["model"]))
+            .collect::<Vec<_>>()
+    };
+    let committed_library = Path::new(env!("CARGO_MANIFEST_DIR")).join("fitted_models");
+    assert_eq!(
+        listing(&a.path("fitted_models")),
+        listing(&committed_library),
+        "the committed fitted_models/ is stale: run `cargo run --release -- demo --regenerate` and commit it"
+    );
+    mucurve(&["library", "verify", "--library", committed_library.to_str().unwrap()]).ok();
     let b = Scratch::new();
     generate::write_all(&b.path("raw_measurements")).unwrap();
     let from_cli = files_in(&a.path("raw_measurements"));
@@ -113,10 +129,13 @@ fn committed_measurements_ingest_cleanly_and_match_the_true_impedance() {
 fn demo_runs_on_the_committed_measurements_and_exits_zero() {
     let out = Scratch::new();
     let run = mucurve(&["demo", "--out", out.dir.path().to_str().unwrap()]).ok();
-    for said in ["byte for byte", "Ingest", "Extract", "lead solved", "licensed practice"] {
+    for said in
+        ["byte for byte", "Ingest", "Extract", "lead solved", "Fit", "Publish", "Vet", " vetted", "licensed practice"]
+    {
         assert!(run.stdout.contains(said), "no '{}' in:\n{}", said, run.stdout);
     }
     assert!(out.path("impedance/driftwood_dw2411-01_t25_1t.csv").is_file());
+    assert!(out.path("fitted_models/kelpline/v0001.json").is_file());
     let text = std::fs::read_to_string(out.path("mu/driftwood_dw-2411-01_1+2t.csv")).unwrap();
     let table = mucurve::extract::read_mu_table(&text).unwrap();
     let truth = generate::sample_model(&scenario::plans()[0]).unwrap();

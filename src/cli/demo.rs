@@ -3,14 +3,16 @@
 
 use super::Failure;
 use crate::demo::pipeline::{self, Event, Options};
+use crate::library::layout::DEFAULT_LIBRARY;
 use std::path::PathBuf;
 
 #[derive(Debug, clap::Args)]
 pub struct Args {
-    /// Work folder for the results.
+    /// Work folder for the results (impedance, μ tables, fits, and the demo library).
     #[arg(long, value_name = "DIR", default_value = "demo-output")]
     pub out: PathBuf,
-    /// Rewrite raw_measurements/ from the deterministic generator before running.
+    /// Rewrite raw_measurements/ from the deterministic generator first, and publish the demo
+    /// library into fitted_models/ (which may hold only demo materials) instead of DIR.
     #[arg(long)]
     pub regenerate: bool,
 }
@@ -22,7 +24,8 @@ const CAUTION: &str = "Caution: these are invented demo materials. Surge, EFT an
 defer to the applicable standards, local codes and licensed practice before relying on any prediction.";
 
 pub fn run(args: Args) -> Result<(), Failure> {
-    let opts = Options { raw_dir: PathBuf::from(RAW_DIR), out_dir: args.out, regenerate: args.regenerate };
+    let library_dir = if args.regenerate { PathBuf::from(DEFAULT_LIBRARY) } else { args.out.join(DEFAULT_LIBRARY) };
+    let opts = Options { raw_dir: PathBuf::from(RAW_DIR), out_dir: args.out, library_dir, regenerate: args.regenerate };
     println!(
         "mucurve demo: {} qualifies suppression cores (an invented scenario)",
         crate::demo::scenario::ORGANISATION
@@ -36,23 +39,21 @@ pub fn run(args: Args) -> Result<(), Failure> {
         Event::Detail(text) => println!("   {}", text),
         Event::Warning(text) => println!("   warning: {}", text),
     };
-    let summary = pipeline::run(&opts, &mut print).map_err(|e| Failure::input(e.to_string()))?;
+    let s = pipeline::run(&opts, &mut print).map_err(|e| Failure::input(e.to_string()))?;
     println!(
-        "\nDone: {} files, {} ingested, {} permeability spectra extracted; results in {}",
-        summary.files,
-        summary.ingested,
-        summary.extracted,
-        opts.out_dir.display()
+        "\nDone: {} files, {} ingested, {} permeability spectra extracted, {} fits, {} versions published, {} vetted.",
+        s.files, s.ingested, s.extracted, s.fitted, s.published, s.vetted
+    );
+    println!(
+        "Results in {}; the demo library in {} (try `mucurve library list --library {}`).",
+        opts.out_dir.display(),
+        opts.library_dir.display(),
+        opts.library_dir.display()
     );
     println!("{}", CAUTION);
-    if summary.failures.is_empty() {
+    if s.failures.is_empty() {
         Ok(())
     } else {
-        Err(Failure::input(format!(
-            "{} of {} demo files failed a stage:\n  {}",
-            summary.failures.len(),
-            summary.files,
-            summary.failures.join("\n  ")
-        )))
+        Err(Failure::input(format!("{} demo step(s) failed:\n  {}", s.failures.len(), s.failures.join("\n  "))))
     }
 }

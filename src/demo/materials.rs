@@ -3,10 +3,8 @@
 //! plausible: each material's static permeability and relaxation frequency sit near Snoek's limit
 //! (μ_s − 1)·f_r ≈ (2/3)·(γ/2π)·J_s for its stated saturation polarisation.
 
+use crate::fit::sanity::snoek_limit_hz;
 use crate::model::{Model, Term};
-
-/// Gyromagnetic ratio over 2π for the electron, Hz/T (PHYSICS.md §4: ≈ 28.0 GHz/T).
-pub const GAMMA_OVER_2PI_HZ_PER_T: f64 = 28.0e9;
 
 /// One invented material and what it is meant to show.
 #[derive(Debug, Clone)]
@@ -24,7 +22,7 @@ pub struct Material {
 impl Material {
     /// Snoek's limit for this material, (2/3)·(γ/2π)·J_s, Hz.
     pub fn snoek_limit_hz(&self) -> f64 {
-        2.0 / 3.0 * GAMMA_OVER_2PI_HZ_PER_T * self.j_s_tesla
+        snoek_limit_hz(self.j_s_tesla)
     }
     /// Static permeability μ_s = μ∞ + Σ Δμ.
     pub fn mu_static(&self) -> f64 {

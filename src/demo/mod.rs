@@ -9,6 +9,7 @@ pub mod manifest;
 pub mod materials;
 pub mod pipeline;
 pub mod readme;
+pub mod release;
 pub mod rng;
 pub mod scenario;
 

@@ -4,10 +4,11 @@
 
 use super::generate;
 use super::manifest::{self, Entry};
+use super::release;
 use super::DemoError;
 use crate::error::Diagnostic;
 use crate::extract::{self, band::hz, ExtractSetup, LeadCorrection, Measurement, MuSpectrum};
-use crate::ingest::{self, ImpedanceSweep, Method, ReadOptions};
+use crate::ingest::{self, ImpedanceSweep, Method, ReadOptions, SweepData};
 use std::path::{Path, PathBuf};
 
 /// Where the demo reads and writes.
@@ -17,6 +18,9 @@ pub struct Options {
     pub raw_dir: PathBuf,
     /// The work folder for results (`demo-output/`).
     pub out_dir: PathBuf,
+    /// Where the demo library is published (replaced on every run; see
+    /// [`super::release::fresh_library`]).
+    pub library_dir: PathBuf,
     /// Rewrite the measurements folder from the generator first.
     pub regenerate: bool,
 }
@@ -39,25 +43,29 @@ pub struct Summary {
     pub ingested: usize,
     /// μ spectra extracted (one per core and fixture).
     pub extracted: usize,
+    /// Fits made, versions published, versions vetted.
+    pub fitted: usize,
+    pub published: usize,
+    pub vetted: usize,
     /// `file: reason` for every file a stage could not handle.
     pub failures: Vec<String>,
 }
 
 /// One measurement file as it moves through the stages.
-struct Item {
-    entry: Entry,
-    path: PathBuf,
-    impedance: Option<ImpedanceSweep>,
+pub(super) struct Item {
+    pub entry: Entry,
+    pub path: PathBuf,
+    pub impedance: Option<ImpedanceSweep>,
 }
 
 /// Files of one core in one fixture, extracted together into one μ spectrum.
-struct Group {
-    /// Output name, e.g. `driftwood_dw2411-01_1+2t`.
-    name: String,
+pub(super) struct Group {
+    /// Output name, e.g. `driftwood_dw-2411-01_1+2t`.
+    pub name: String,
     /// Indices into the items.
-    members: Vec<usize>,
-    lead: LeadCorrection,
-    spectrum: Option<MuSpectrum>,
+    pub members: Vec<usize>,
+    pub lead: LeadCorrection,
+    pub spectrum: Option<MuSpectrum>,
 }
 
 /// Run the demo.
@@ -73,10 +81,13 @@ pub fn run(opts: &Options, report: &mut dyn FnMut(Event)) -> Result<Summary, Dem
     ingest_all(opts, &mut items, &mut summary, report)?;
     let mut groups = plan_groups(&items);
     extract_all(opts, &items, &mut groups, &mut summary, report)?;
+    let mut releases = release::plan_releases(&items, &groups);
+    release::fit_all(&opts.out_dir, &items, &groups, &mut releases, &mut summary, report)?;
+    release::publish_and_vet(&opts.library_dir, &mut releases, &mut summary, report)?;
     Ok(summary)
 }
 
-fn io_error(path: &Path, what: &str, e: std::io::Error) -> DemoError {
+pub(super) fn io_error(path: &Path, what: &str, e: std::io::Error) -> DemoError {
     Diagnostic::new(format!("cannot {}: {}", what, e)).file(path).hint("check the path and permissions").into()
 }
 
@@ -139,8 +150,12 @@ fn ingest_one(item: &mut Item, dir: &Path) -> Result<String, String> {
     let sweep = ingest::read_sweep(&item.path, &ReadOptions::default()).map_err(|e| e.to_string())?;
     let kind = sweep.data.describe();
     // Impedance exports need no set-up; S data is converted with the manifest's method.
-    let method = if kind == "Z" { None } else { Some(method) };
-    let z = ingest::method::to_impedance(&sweep, method, None).map_err(|e| e.to_string())?;
+    let exported_z = matches!(sweep.data, SweepData::Impedance(_));
+    let mut z =
+        ingest::method::to_impedance(&sweep, (!exported_z).then_some(method), None).map_err(|e| e.to_string())?;
+    // An impedance export hides the set-up it was measured with; the manifest records it, and
+    // the extraction's accurate |Z| range depends on it.
+    z.method = z.method.or(Some(method));
     let stem = Path::new(&item.entry.file).file_stem().map(|s| s.to_string_lossy().into_owned()).unwrap_or_default();
     let out = dir.join(format!("{}.csv", stem));
     crate::fsutil::write_atomic(&out, ingest::sweep_file::write_sweep(&z).as_bytes()).map_err(|e| e.to_string())?;
@@ -149,7 +164,7 @@ fn ingest_one(item: &mut Item, dir: &Path) -> Result<String, String> {
         "{:<34} {:<8} -> Z ({}), {} points, {}..{}, |Z| {}..{}",
         item.entry.file,
         kind,
-        z.method.map(|m| m.name()).unwrap_or("as exported"),
+        if exported_z { "as exported" } else { method.name() },
         z.freq_hz.len(),
         hz(z.freq_hz.first().copied().unwrap_or(0.0)),
         hz(z.freq_hz.last().copied().unwrap_or(0.0)),
@@ -273,12 +288,17 @@ fn extract_one(items: &[Item], g: &mut Group, dir: &Path) -> Result<Vec<String>,
         line += &format!("; self-resonance {} (C_p {:.1} pF)", hz(f), c * 1e12);
     }
     let mut lines = vec![line];
-    // Reading warnings were shown at ingest; keep the extraction's own.
-    lines.extend(
-        s.warnings.iter().filter(|w| !measurements.iter().any(|m| w.starts_with(&m.sweep.source.file_name()))).cloned(),
-    );
+    lines.extend(own_warnings(&s));
     g.spectrum = Some(s);
     Ok(lines)
+}
+
+/// The extraction's own warnings about a spectrum, without the reader's notes on each sweep that
+/// it repeats (`FILE: ...`): those were reported at ingest and concern the files (a merged
+/// segment boundary, noise at near-short impedances outside the valid band), not the material.
+pub(super) fn own_warnings(s: &MuSpectrum) -> Vec<String> {
+    let from_reader = |w: &str| s.sources.iter().any(|src| w.starts_with(&format!("{}: ", src.file_name())));
+    s.warnings.iter().filter(|w| !from_reader(w)).cloned().collect()
 }
 
 /// The head of a warning: up to its first comma or parenthesis ("23 of 321 points have |S11| > 1").

@@ -72,8 +72,8 @@ pub const LOTS: &[Lot] = &[
 
 /// Sample-to-sample spread inside a lot (1σ, relative) of Δμ and f_r [common practice: μ_i of
 /// ferrite is specified ±20–25 %, PHYSICS.md §8; cores of one lot scatter far less].
-pub const SAMPLE_SPREAD_MU: f64 = 0.015;
-pub const SAMPLE_SPREAD_F: f64 = 0.01;
+pub const SAMPLE_SPREAD_MU: f64 = 0.01;
+pub const SAMPLE_SPREAD_F: f64 = 0.007;
 
 /// The analyser's trace noise on each S-parameter: relative (1σ, complex) and an absolute floor.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -100,7 +100,9 @@ pub struct Plan {
     /// Lead and loop inductance outside the core, nH (the bench characterises each fixture's
     /// loop without a core, so the manifest states it).
     pub lead_nh: f64,
-    /// Winding self-capacitance, pF.
+    /// Winding self-capacitance, pF. Only the many-turn winding has one that matters here: the
+    /// 1–3 turn windings are spaced single-layer turns whose capacitance the demo neglects, so
+    /// their sweeps are valid to the top of the band.
     pub c_p_pf: f64,
     pub date: &'static str,
     pub notes: &'static str,
@@ -155,27 +157,27 @@ pub fn plans() -> Vec<Plan> {
     vec![
         p("driftwood_dw2411-01_t25_1t", "DW-2411", "DW-2411-01", T25, 1, Reflection, V1_MHZ_RI, TWO_SEGMENTS, 24.0, 0.0,
           "2024-11-19", "1 turn of 0.8 mm wire, SMA reflection fixture; leads about 15 mm"),
-        p("driftwood_dw2411-01_t25_2t", "DW-2411", "DW-2411-01", T25, 2, Reflection, V1_HZ_MA, TWO_SEGMENTS, 24.0, 0.5,
+        p("driftwood_dw2411-01_t25_2t", "DW-2411", "DW-2411-01", T25, 2, Reflection, V1_HZ_MA, TWO_SEGMENTS, 24.0, 0.0,
           "2024-11-19", "same core and leads rewound with 2 turns, for the lead correction"),
-        p("driftwood_dw2411-02_t25_1t", "DW-2411", "DW-2411-02", T25, 1, Series, V2_GHZ_DB, THREE_SEGMENTS, 18.0, 0.0,
-          "2024-11-20", "series-through fixture, wire straight through the core"),
-        p("driftwood_dw2411-02_t25_2t", "DW-2411", "DW-2411-02", T25, 2, Reflection, Layout::CsvZMagPhase, TWO_SEGMENTS, 28.0, 0.5,
+        p("driftwood_dw2411-02_t25_3t", "DW-2411", "DW-2411-02", T25, 3, Series, V2_GHZ_DB, THREE_SEGMENTS, 18.0, 0.0,
+          "2024-11-20", "3 turns on the series-through fixture (1 turn is too small a part for it below 10 MHz)"),
+        p("driftwood_dw2411-02_t25_2t", "DW-2411", "DW-2411-02", T25, 2, Reflection, Layout::CsvZMagPhase, TWO_SEGMENTS, 28.0, 0.0,
           "2024-11-20", "impedance export of the reflection set-up"),
         p("driftwood_dw2411-03_t12_10t", "DW-2411", "DW-2411-03", T12, 10, Reflection, Layout::CsvZReIm, ONE_SEGMENT, 12.0, 3.2,
           "2024-11-21", "10 turns of 0.3 mm enamelled wire; self-resonance inside the sweep"),
         p("driftwood_dw2502-01_t25_1t", "DW-2502", "DW-2502-01", T25, 1, Reflection, V1_MHZ_RI, TWO_SEGMENTS, 23.0, 0.0,
           "2025-02-11", "incoming inspection of the new lot"),
-        p("driftwood_dw2502-02_t25_2t", "DW-2502", "DW-2502-02", T25, 2, Reflection, Layout::CsvS11DbTab, TWO_SEGMENTS, 30.0, 0.5,
+        p("driftwood_dw2502-02_t25_2t", "DW-2502", "DW-2502-02", T25, 2, Reflection, Layout::CsvS11DbTab, TWO_SEGMENTS, 30.0, 0.0,
           "2025-02-11", "second core of the new lot; trace export"),
         p("driftwood_dwc2411-01_s17_1t", "DWC-2411", "DWC-2411-01", SPLIT17, 1, Reflection, V2_MHZ_RI, TWO_SEGMENTS, 26.0, 0.0,
           "2024-11-26", "clip-on sleeve closed around a 7 mm cable stub, latch fully shut"),
         p("driftwood_dwc2411-02_s17_1t", "DWC-2411", "DWC-2411-02", SPLIT17, 1, Series, V1_MHZ_RI, TWO_SEGMENTS, 20.0, 0.0,
           "2024-11-26", "clip-on sleeve on the series-through fixture"),
-        p("saltmarsh_sm2410-01_t16_2t", "SM-2410", "SM-2410-01", T16, 2, Reflection, V1_HZ_MA, THREE_SEGMENTS, 29.0, 0.4,
+        p("saltmarsh_sm2410-01_t16_2t", "SM-2410", "SM-2410-01", T16, 2, Reflection, V1_HZ_MA, THREE_SEGMENTS, 29.0, 0.0,
           "2024-10-08", "VHF candidate for the radio lead"),
-        p("saltmarsh_sm2410-02_t16_2t", "SM-2410", "SM-2410-02", T16, 2, Series, V2_GHZ_DB, TWO_SEGMENTS, 25.0, 0.4,
+        p("saltmarsh_sm2410-02_t16_2t", "SM-2410", "SM-2410-02", T16, 2, Series, V2_GHZ_DB, TWO_SEGMENTS, 25.0, 0.0,
           "2024-10-08", "series-through fixture"),
-        p("saltmarsh_sm2410-02_t16_3t", "SM-2410", "SM-2410-02", T16, 3, Reflection, Layout::CsvZReIm, TWO_SEGMENTS, 33.0, 0.7,
+        p("saltmarsh_sm2410-02_t16_3t", "SM-2410", "SM-2410-02", T16, 3, Reflection, Layout::CsvZReIm, TWO_SEGMENTS, 33.0, 0.0,
           "2024-10-09", "same core rewound with 3 turns"),
         p("emberstone_em2409-01_t20_1t", "EM-2409", "EM-2409-01", T20, 1, Reflection, V1_MHZ_RI, TWO_SEGMENTS, 22.0, 0.0,
           "2024-09-17", "low-band candidate for the mains input; expect size effects above 1 MHz"),
@@ -185,7 +187,7 @@ pub fn plans() -> Vec<Plan> {
           "2024-12-03", "clip-on sleeve around a 6 mm cable stub"),
         p("kelpline_kl2412-02_s13_1t", "KL-2412", "KL-2412-02", SPLIT13, 1, Reflection, Layout::CsvS11DbTab, THREE_SEGMENTS, 22.0, 0.0,
           "2024-12-03", "second sleeve of the lot; trace export"),
-        p("kelpline_kl2412-02_s13_2t", "KL-2412", "KL-2412-02", SPLIT13, 2, Series, V1_HZ_MA, TWO_SEGMENTS, 27.0, 0.4,
+        p("kelpline_kl2412-02_s13_2t", "KL-2412", "KL-2412-02", SPLIT13, 2, Series, V1_HZ_MA, TWO_SEGMENTS, 27.0, 0.0,
           "2024-12-04", "cable looped twice through the sleeve, series-through fixture"),
     ]
 }

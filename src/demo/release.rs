@@ -1,0 +1,289 @@
+//! The demo's last steps: fit one shared model per material to the spectra of its cores, publish
+//! each fit into the demo library, and vet the versions that meet the library's rules.
+//!
+//! The story the steps tell: driftwood is first published from every lot it came in, including
+//! the off-spec lot DW-2502; vetting refuses it because the samples disagree. It is published
+//! again from the on-spec lots, vetted, and the first version is retired as superseded. The
+//! MnZn-like material keeps its size-effect warning and stays a draft.
+
+use super::materials::{self, Material};
+use super::pipeline::{io_error, own_warnings, Event, Group, Item, Summary};
+use super::DemoError;
+use crate::error::Diagnostic;
+use crate::extract::band::hz;
+use crate::extract::LeadSource;
+use crate::fit::analysis::{analyse, FitRequest, ModelChoice};
+use crate::fit::build_report::SourceData;
+use crate::fit::engine::FitOptions;
+use crate::fit::report::{FitReport, SourceProvenance};
+use crate::fit::sanity::SaturationPolarisation;
+use crate::library::Library;
+use crate::model::{Model, Term, TermKind};
+use std::path::{Path, PathBuf};
+
+/// The time written into the demo library (2025-02-14T09:00:00Z, after the last measurement),
+/// so the library is the same on every run.
+pub const PUBLISHED_AT_UNIX: i64 = 1_739_523_600;
+/// Who vets and retires in the demo's lifecycle events.
+pub const BY: &str = "EMC bench (demo)";
+
+/// One fit to publish: a material and the extracted spectra it rests on.
+pub(super) struct Release {
+    pub material: Material,
+    /// File stem of the fit report, e.g. `driftwood_all-lots`.
+    pub name: String,
+    /// Indices into the groups.
+    pub groups: Vec<usize>,
+    /// True when an off-spec lot is among the sources.
+    pub with_off_spec: bool,
+    pub note: String,
+    pub fit_path: Option<PathBuf>,
+    pub version: Option<u32>,
+}
+
+/// Per material: one release from its on-spec lots, preceded (when the material has an off-spec
+/// lot) by one from every lot.
+pub(super) fn plan_releases(items: &[Item], groups: &[Group]) -> Vec<Release> {
+    let lot_of = |g: &Group| &items[g.members[0]].entry;
+    let mut releases = Vec::new();
+    for material in materials::materials() {
+        let mine: Vec<usize> = (0..groups.len())
+            .filter(|&g| groups[g].spectrum.is_some() && lot_of(&groups[g]).material == material.id)
+            .collect();
+        let on_spec: Vec<usize> = mine.iter().copied().filter(|&g| !lot_of(&groups[g]).off_spec).collect();
+        let lots = |gs: &[usize]| {
+            let mut l: Vec<&str> = gs.iter().map(|&g| lot_of(&groups[g]).lot.as_str()).collect();
+            l.sort();
+            l.dedup();
+            l.join(", ")
+        };
+        let release = |name: &str, gs: Vec<usize>, with_off_spec: bool| Release {
+            name: format!("{}_{}", material.id, name),
+            note: format!("demo: {} from lots {}", material.id, lots(&gs)),
+            material: material.clone(),
+            groups: gs,
+            with_off_spec,
+            fit_path: None,
+            version: None,
+        };
+        if mine.len() > on_spec.len() {
+            releases.push(release("all-lots", mine.clone(), true));
+        }
+        if !on_spec.is_empty() {
+            releases.push(release("on-spec-lots", on_spec, false));
+        }
+    }
+    releases
+}
+
+/// A group's spectrum inside its valid band, with the provenance of every sweep behind it.
+fn source_data(items: &[Item], g: &Group) -> Option<SourceData> {
+    let s = g.spectrum.as_ref()?;
+    let idx = s.valid_indices();
+    let lead = s.l_lead.as_ref().map(|l| match l.source {
+        LeadSource::Solved => format!("lead inductance {:.3e} H solved across windings", l.henry),
+        LeadSource::Stated => format!("lead inductance {:.3e} H (fixture, from the manifest) removed", l.henry),
+    });
+    let provenance = g
+        .members
+        .iter()
+        .filter_map(|&m| {
+            let (e, z) = (&items[m].entry, items[m].impedance.as_ref()?);
+            Some(SourceProvenance {
+                file: e.file.clone(),
+                sha256: z.source.sha256.clone(),
+                method: z.method.map(|x| x.name().to_string()),
+                core: s.core.spec(),
+                turns: e.turns as f64,
+                corrections: z.corrections.iter().chain(&s.corrections).cloned().chain(lead.clone()).collect(),
+                temperature_c: None,
+                notes: Some(format!("lot {}, sample {}, measured {}: {}", e.lot, e.sample, e.date, e.notes)),
+                // Numbered by the fit report, one per source spectrum.
+                sample: 0,
+            })
+        })
+        .collect();
+    Some(SourceData {
+        label: g.name.clone(),
+        freq_hz: idx.iter().map(|&i| s.freq_hz[i]).collect(),
+        mu: idx.iter().map(|&i| s.mu[i]).collect(),
+        provenance,
+        warnings: own_warnings(s),
+    })
+}
+
+/// Step 4: fit every release (`--model auto`) and write its report as `fits/NAME.json`.
+pub(super) fn fit_all(
+    out_dir: &Path,
+    items: &[Item],
+    groups: &[Group],
+    releases: &mut [Release],
+    summary: &mut Summary,
+    report: &mut dyn FnMut(Event),
+) -> Result<(), DemoError> {
+    let dir = out_dir.join("fits");
+    report(Event::Step(format!(
+        "Fit: one shared model per material, chosen by BIC among the candidate families -> {}",
+        dir.display()
+    )));
+    std::fs::create_dir_all(&dir).map_err(|e| io_error(&dir, "create the folder", e))?;
+    for r in releases.iter_mut() {
+        let sources: Vec<SourceData> = r.groups.iter().filter_map(|&g| source_data(items, &groups[g])).collect();
+        let req = FitRequest {
+            model: ModelChoice::Auto,
+            options: FitOptions::default(),
+            js: SaturationPolarisation::Stated(r.material.j_s_tesla),
+        };
+        let fitted = analyse(&sources, &req).map_err(|e| e.to_string()).and_then(|a| {
+            let path = dir.join(format!("{}.json", r.name));
+            let text = serde_json::to_string_pretty(&a.report).map_err(|e| e.to_string())? + "\n";
+            crate::fsutil::write_atomic(&path, text.as_bytes()).map_err(|e| e.to_string())?;
+            Ok((a.report, path))
+        });
+        match fitted {
+            Ok((fit, path)) => {
+                summary.fitted += 1;
+                report(Event::Detail(fit_line(r, sources.len(), &fit)));
+                report(Event::Detail(format!("    {}", compare_with_truth(&fit, &r.material.model))));
+                r.fit_path = Some(path);
+            }
+            Err(reason) => {
+                report(Event::Warning(format!("{}: not fitted: {}", r.name, reason)));
+                summary.failures.push(format!("{}: {}", r.name, reason));
+            }
+        }
+    }
+    Ok(())
+}
+
+fn fit_line(r: &Release, sources: usize, fit: &FitReport) -> String {
+    let runner = fit
+        .runner_up
+        .as_ref()
+        .map(|u| format!(" (runner-up {}, ΔBIC {:.0})", u.model, u.delta_bic))
+        .unwrap_or_default();
+    format!(
+        "{:<26} {} sources: {}{}; rms {:.2} %, max {:.2} %; Kramers–Kronig {}; {} warning(s)",
+        r.name,
+        sources,
+        fit.model,
+        runner,
+        100.0 * fit.stats.rms_rel,
+        100.0 * fit.stats.max_rel,
+        if fit.kk.pass { "pass" } else { "FAIL" },
+        fit.warnings.len()
+    )
+}
+
+/// The fitted model as a [`Model`] (None if the report names a kind this build does not know).
+fn fitted_model(fit: &FitReport) -> Option<Model> {
+    let terms = fit
+        .terms
+        .iter()
+        .map(|t| {
+            let kind = TermKind::parse(&t.kind).ok()?;
+            let p: Option<Vec<f64>> = kind.param_names().iter().map(|n| t.params.get(*n).map(|e| e.value)).collect();
+            Some(Term::from_params(kind, &p?))
+        })
+        .collect::<Option<Vec<Term>>>()?;
+    Some(Model { mu_inf: fit.mu_inf.value, terms })
+}
+
+/// The fitted spectrum beside the invented truth, in figures that do not depend on the family
+/// the fit chose: μ′ at the bottom of the fitted band and the μ″ peak.
+fn compare_with_truth(fit: &FitReport, truth: &Model) -> String {
+    let Some(model) = fitted_model(fit) else { return String::new() };
+    let f_low = fit.f_min_hz;
+    let peak = |m: &Model| {
+        let f = materials::loss_peak_hz(m, fit.f_min_hz, fit.f_max_hz);
+        (f, -m.mu(f).im)
+    };
+    let ((fp, lp), (tp, tl)) = (peak(&model), peak(truth));
+    format!(
+        "vs the demo's nominal truth ({}): μ′ {:.1} ({:.1}) at {}, peak μ″ {:.1} ({:.1}) at {} ({})",
+        truth.spec(),
+        model.mu(f_low).re,
+        truth.mu(f_low).re,
+        hz(f_low),
+        lp,
+        tl,
+        hz(fp),
+        hz(tp)
+    )
+}
+
+/// Make `dir` an empty place for the demo library: it may only hold demo materials (and the
+/// library's lock file) from an earlier run, which are removed; anything else is refused.
+pub fn fresh_library(dir: &Path) -> Result<(), DemoError> {
+    if !dir.exists() {
+        return Ok(());
+    }
+    let ours: Vec<&str> = materials::materials().iter().map(|m| m.id).collect();
+    let entries = std::fs::read_dir(dir).map_err(|e| io_error(dir, "read the folder", e))?;
+    for entry in entries {
+        let name = entry.map_err(|e| io_error(dir, "read the folder", e))?.file_name().to_string_lossy().into_owned();
+        if !ours.contains(&name.as_str()) && name != crate::library::layout::LOCK_FILE {
+            return Err(Diagnostic::new(format!("the folder holds '{}', which is not a demo material", name))
+                .file(dir)
+                .expected(format!("a folder holding only the demo materials ({})", ours.join(", ")))
+                .hint(
+                    "the demo replaces its own library only; move your library elsewhere or give --out another folder",
+                )
+                .into());
+        }
+    }
+    std::fs::remove_dir_all(dir).map_err(|e| io_error(dir, "clear the previous demo library", e))
+}
+
+/// Step 5: publish every fitted release into `library_dir`, then vet: promote what meets the
+/// rules, report what does not, and retire the all-lots version a vetted one supersedes.
+pub(super) fn publish_and_vet(
+    library_dir: &Path,
+    releases: &mut [Release],
+    summary: &mut Summary,
+    report: &mut dyn FnMut(Event),
+) -> Result<(), DemoError> {
+    report(Event::Step(format!("Publish: each fit as the next version of its material -> {}", library_dir.display())));
+    fresh_library(library_dir)?;
+    let lib = Library::new(library_dir).with_fixed_time(Some(PUBLISHED_AT_UNIX));
+    for r in releases.iter_mut() {
+        let Some(path) = &r.fit_path else { continue };
+        match lib.publish_file(path, r.material.id, Some(r.note.clone())) {
+            Ok(p) => {
+                summary.published += 1;
+                report(Event::Detail(format!("{}@{} <- {} ({})", p.material, p.version, r.name, r.note)));
+                r.version = Some(p.version);
+            }
+            Err(e) => {
+                report(Event::Warning(format!("{}: not published: {}", r.name, e)));
+                summary.failures.push(format!("{}: {}", r.name, e));
+            }
+        }
+    }
+    report(Event::Step("Vet: promote the versions that meet the library's rules".to_string()));
+    let mut vetted: Vec<(String, u32)> = Vec::new();
+    for r in releases.iter() {
+        let (id, Some(v)) = (r.material.id, r.version) else { continue };
+        let why = "demo: samples of the on-spec lots fitted by one causal model";
+        match lib.promote(id, v, BY, why) {
+            Ok(_) => {
+                summary.vetted += 1;
+                vetted.push((id.to_string(), v));
+                report(Event::Detail(format!("{}@{} vetted", id, v)));
+            }
+            Err(e) => {
+                let reasons = e.0.message.replace("\n  ", "\n      ");
+                report(Event::Detail(format!("{}@{} stays draft: {}", id, v, reasons)));
+            }
+        }
+    }
+    for r in releases.iter().filter(|r| r.with_off_spec) {
+        let (id, Some(v)) = (r.material.id, r.version) else { continue };
+        let Some((_, newer)) = vetted.iter().find(|(m, n)| m == id && *n != v) else { continue };
+        let successor = format!("{}@{}", id, newer);
+        let why = "includes an off-spec lot; superseded by the on-spec version";
+        lib.retire(id, v, BY, why, Some(&successor)).map_err(|e| DemoError(e.0))?;
+        report(Event::Detail(format!("{}@{} retired, superseded by {}", id, v, successor)));
+    }
+    Ok(())
+}
