@@ -215,13 +215,28 @@ pub fn write_all(dir: &Path) -> Result<Vec<PathBuf>, DemoError> {
     Ok(written)
 }
 
-/// Names of generated files that are missing from `dir` or differ from what the generator writes.
+/// How `dir` departs from what the generator writes: files missing or different (by name) and
+/// files the generator does not write (`NAME (not generated)`, e.g. left from an older scenario).
 pub fn differences(dir: &Path) -> Result<Vec<String>, DemoError> {
-    Ok(generate_all()?
-        .into_iter()
+    let generated = generate_all()?;
+    let mut out: Vec<String> = generated
+        .iter()
         .filter(|f| std::fs::read(dir.join(&f.name)).map(|b| b != f.bytes).unwrap_or(true))
-        .map(|f| f.name)
-        .collect())
+        .map(|f| f.name.clone())
+        .collect();
+    let listing = std::fs::read_dir(dir).map_err(|e| {
+        Diagnostic::new(format!("cannot read the folder: {}", e)).file(dir).hint("check the path and permissions")
+    })?;
+    let mut extra: Vec<String> = listing
+        .filter_map(|e| e.ok())
+        .filter(|e| e.path().is_file())
+        .map(|e| e.file_name().to_string_lossy().into_owned())
+        .filter(|name| !generated.iter().any(|f| &f.name == name))
+        .map(|name| format!("{} (not generated)", name))
+        .collect();
+    extra.sort();
+    out.extend(extra);
+    Ok(out)
 }
 
 #[cfg(test)]

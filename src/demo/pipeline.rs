@@ -112,7 +112,7 @@ fn prepare_raw(opts: &Options, report: &mut dyn FnMut(Event)) -> Result<(), Demo
         report(Event::Detail("every file is byte for byte what the generator writes".into()));
     } else {
         report(Event::Warning(format!(
-            "{} file(s) differ from the generator ({}); the demo runs on them as they are (--regenerate restores them)",
+            "{} file(s) differ from what the generator writes ({}); the demo runs on the manifest as it is (--regenerate rewrites the generated files)",
             differ.len(),
             differ.join(", ")
         )));
