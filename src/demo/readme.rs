@@ -42,16 +42,20 @@ pub fn render(entries: &[Entry]) -> String {
             m.j_s_tesla
         ));
     }
-    out.push_str("\nEach core scatters around its lot (1 sigma: ");
     out.push_str(&format!(
-        "{} % on delta_mu, {} % on f_hz); lot DW-2502 is off spec (delta_mu x0.70, f_hz x1.35).\n",
+        "\nEach core scatters around its lot (1 sigma: {:.1} % on delta_mu, {:.1} % on f_hz).\n",
         scenario::SAMPLE_SPREAD_MU * 100.0,
         scenario::SAMPLE_SPREAD_F * 100.0
     ));
-    out.push_str(
-        "Fixtures add lead inductance (tens of nH) and, on wound toroids, winding capacitance; the analyser\n",
-    );
-    out.push_str("adds trace noise on every S-parameter, so low impedances read by reflection are noisy.\n\n");
+    for lot in scenario::LOTS.iter().filter(|l| l.off_spec) {
+        out.push_str(&format!(
+            "Lot {} of {} is off spec: delta_mu x{:.2}, f_hz x{:.2}.\n",
+            lot.id, lot.material, lot.mu_scale, lot.f_scale
+        ));
+    }
+    out.push_str("Fixtures add lead inductance (tens of nH, stated per file in the manifest); the 10-turn winding\n");
+    out.push_str("adds its self-capacitance and resonates inside the sweep; the analyser adds trace noise on every\n");
+    out.push_str("S-parameter, so low impedances read by reflection are noisy.\n\n");
     out.push_str("## Files\n\n`manifest.csv` describes every file (core spec, turns, method, fixture lead inductance, lot, sample, date).\n\n");
     out.push_str("| file | sample | core | turns | method | export style |\n|---|---|---|---|---|---|\n");
     for (e, plan) in entries.iter().zip(scenario::plans()) {
