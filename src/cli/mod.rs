@@ -1,6 +1,7 @@
 //! Command-line interface: parses arguments (clap derive), calls the library, prints.
 //! One file per command; the only place besides `main.rs` that prints.
 
+pub mod bench;
 pub mod demo;
 pub mod export;
 pub mod extract;
@@ -35,6 +36,8 @@ pub enum Command {
     Export(export::Args),
     /// Run the whole pipeline on the bundled, invented demo scenario.
     Demo(demo::Args),
+    /// Time the fit engine on synthetic spectra (see tests/reference/scipy_bench.py).
+    Bench(bench::Args),
 }
 
 /// What a command failed with: the message to print and the exit code.
@@ -87,5 +90,6 @@ pub fn run(cli: Cli) -> Result<(), Failure> {
         Command::Library(a) => library::run(a),
         Command::Export(a) => export::run(a),
         Command::Demo(a) => demo::run(a),
+        Command::Bench(a) => bench::run(a),
     }
 }

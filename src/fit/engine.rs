@@ -34,14 +34,18 @@ use rayon::prelude::*;
 const PINNED_SLOPE: f64 = 1e-4;
 /// A term whose f_r lies this many decades outside the fitted band is reported as poorly determined.
 const OUTSIDE_BAND_DECADES: f64 = 1.0;
-/// Starts read from the spectrum's features, and from the separable grid screen.
-const FEATURE_STARTS: usize = 4;
-const GRID_STARTS: usize = 4;
+/// Starts read from the spectrum's features, and from the separable grid screen (plus the one
+/// greedy build-up start).
+const FEATURE_STARTS: usize = 3;
+const GRID_STARTS: usize = 3;
 /// Points kept for screening the starts, their looser tolerances, and how many screened optima
 /// are run to convergence on all the data.
 const SCREEN_POINTS: usize = 200;
 const SCREEN_TOL: f64 = 1e-7;
 const POLISHED: usize = 2;
+/// A second screened optimum is polished too only if its screened cost is within this factor of
+/// the best one's (the decimated data rank optima as the full data do, up to noise).
+const CONTENDER_RATIO: f64 = 1.05;
 
 /// How to fit.
 #[derive(Debug, Clone, PartialEq)]
@@ -61,7 +65,7 @@ impl Default for FitOptions {
             free_mu_inf: false,
             mu_inf: 1.0,
             lm: LmConfig::default(),
-            max_starts: FEATURE_STARTS + GRID_STARTS,
+            max_starts: FEATURE_STARTS + GRID_STARTS + 1,
         }
     }
 }
@@ -260,9 +264,13 @@ pub fn fit_from_starts(
             .collect();
         screened.sort_by(|a, b| a.0.total_cmp(&b.0));
         polish.clear();
-        for (_, i, m) in screened {
+        let best_cost = screened.first().map_or(0.0, |s| s.0);
+        for (cost, i, m) in screened {
             let kept: Vec<Model> = polish.iter().map(|(_, p)| p.clone()).collect();
-            if start::is_new(&kept, &m) {
+            // A distinct optimum is a contender only if its cost is close to the best one's.
+            if polish.is_empty()
+                || (start::is_new(&kept, &m) && cost <= CONTENDER_RATIO * best_cost)
+            {
                 polish.push((i, m));
             }
             if polish.len() == POLISHED {

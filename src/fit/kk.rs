@@ -17,10 +17,13 @@
 //! - **Resonances.** A damped resonance has poles off the imaginary axis that no sum of Debye
 //!   terms with real τ represents economically (μ′ may fall below μ∞). When the relaxation basis
 //!   alone does not pass, the fit is repeated with a fixed grid of damped-resonance functions
-//!   1/(1 − (f/fₖ)² + j·d·f/fₖ) added — `RESONANCE_PER_DECADE` centre frequencies per decade over
-//!   the band, each at the dampings `RESONANCE_DAMPINGS` — and the report names the basis used.
+//!   1/(1 − (f/fₖ)² + j·d·f/fₖ) added — centre frequencies log-spaced over the band at each of the
+//!   dampings `RESONANCE_DAMPINGS`, denser for the sharper ones — and the report names the basis used.
 //!   Resonances sharper than the smallest damping, or spectra whose |μ| passes near zero, can
 //!   still fail on the basis rather than on the data; the warning then says which basis failed.
+//!
+//! The linear fit is made on at most `FIT_POINTS` points thinned evenly from a dense sweep (a
+//! few hundred points determine a few dozen weights); the residuals are judged at every point.
 //!
 //! Pass: residual RMS and drift (largest moving average of the residuals over a window of
 //! `DRIFT_WINDOW_FRACTION` of the points) both at most [`KK_RESIDUAL_LIMIT`].
@@ -43,14 +46,18 @@ const MU_C_FLOOR: f64 = -1e6;
 pub const KK_RESIDUAL_LIMIT: f64 = 0.01;
 /// Densest relaxation basis tried, per decade of the band.
 const MAX_PER_DECADE: f64 = 7.0;
-/// Resonance grid density and dampings (chosen so that synthetic resonances with d ≥ 0.3 and the
+/// Resonance grid: the dampings, and the grid density for each — inversely proportional to the
+/// damping, since a resonance's relative width is about d, so that neighbouring centres sit
+/// about half a line width apart (chosen so that synthetic resonances with d ≥ 0.2 and the
 /// relaxation-plus-resonance spectra of the tests fit to their noise).
-const RESONANCE_PER_DECADE: f64 = 10.0;
 const RESONANCE_DAMPINGS: [f64; 3] = [0.2, 0.5, 1.2];
+const RESONANCE_DENSITY: f64 = 4.6;
 /// Relative rank threshold for the pivoted QR of the unit-norm basis columns.
 const RANK_RTOL: f64 = 1e-10;
 /// Fewest frequencies Lin-KK is run on.
 const MIN_POINTS: usize = 8;
+/// Points the linear fit is made on (thinned evenly from denser sweeps).
+const FIT_POINTS: usize = 400;
 /// Moving-average window for the drift measure, as a fraction of the points (at least 5).
 const DRIFT_WINDOW_FRACTION: f64 = 0.05;
 
@@ -105,13 +112,32 @@ impl BasisFn {
 }
 
 /// The data as the weighted linear problem sees it.
-struct Data<'a> {
-    freq_hz: &'a [f64],
-    mu: &'a [C64],
+struct Data {
+    freq_hz: Vec<f64>,
+    mu: Vec<C64>,
     weight: Vec<f64>,
 }
 
-impl Data<'_> {
+impl Data {
+    fn new(freq_hz: &[f64], mu: &[C64]) -> Data {
+        Data {
+            freq_hz: freq_hz.to_vec(),
+            mu: mu.to_vec(),
+            weight: mu.iter().map(|m| 1.0 / m.norm()).collect(),
+        }
+    }
+    /// Every k-th point (and the last), about `most` of them: the linear fit needs far fewer
+    /// points than a dense sweep has, while the residuals are still judged at every point.
+    fn thinned(&self, most: usize) -> Data {
+        let n = self.freq_hz.len();
+        let step = n.div_ceil(most.max(1)).max(1);
+        let idx: Vec<usize> = (0..n).filter(|i| i % step == 0 || *i == n - 1).collect();
+        Data {
+            freq_hz: idx.iter().map(|&i| self.freq_hz[i]).collect(),
+            mu: idx.iter().map(|&i| self.mu[i]).collect(),
+            weight: idx.iter().map(|&i| self.weight[i]).collect(),
+        }
+    }
     /// A basis function as a weighted column: real parts of all frequencies, then imaginary.
     fn column(&self, b: BasisFn) -> Vec<f64> {
         let n = self.freq_hz.len();
@@ -237,7 +263,7 @@ impl Scored {
         let fitted: Vec<C64> = data.freq_hz.iter().map(|&f| fit.value(f)).collect();
         let residuals: Vec<C64> = fitted
             .iter()
-            .zip(data.mu)
+            .zip(&data.mu)
             .zip(&data.weight)
             .map(|((y, m), w)| (y - m) * w)
             .collect();
@@ -296,10 +322,11 @@ fn log_spaced(lo: f64, hi: f64, n: usize) -> Vec<f64> {
 /// Lin-KK on the raised-M schedule for one basis.
 fn run_basis(data: &Data, basis: KkBasis, m_max: usize) -> Scored {
     let (f_lo, f_hi) = (data.freq_hz[0], data.freq_hz[data.freq_hz.len() - 1]);
+    let fit_data = data.thinned(FIT_POINTS);
     let mut funcs = vec![BasisFn::Constant];
     if basis == KkBasis::RelaxationAndResonance {
-        let n_res = ((f_hi / f_lo).log10() * RESONANCE_PER_DECADE).ceil() as usize + 1;
         for &damping in &RESONANCE_DAMPINGS {
+            let n_res = ((f_hi / f_lo).log10() * RESONANCE_DENSITY / damping).ceil() as usize + 1;
             funcs.extend(
                 log_spaced(f_lo, f_hi, n_res)
                     .into_iter()
@@ -307,10 +334,14 @@ fn run_basis(data: &Data, basis: KkBasis, m_max: usize) -> Scored {
             );
         }
     }
-    let fixed = FixedBlock::new(data, funcs);
+    let fixed = FixedBlock::new(&fit_data, funcs);
     let (tau_lo, tau_hi) = (1.0 / (2.0 * PI * f_hi), 1.0 / (2.0 * PI * f_lo));
-    let fit_m =
-        |m: usize| Scored::new(data, fit_with(data, &fixed, &log_spaced(tau_lo, tau_hi, m)));
+    let fit_m = |m: usize| {
+        Scored::new(
+            data,
+            fit_with(&fit_data, &fixed, &log_spaced(tau_lo, tau_hi, m)),
+        )
+    };
     let mut chosen = None;
     for m in 1..=m_max {
         let s = fit_m(m);
@@ -381,15 +412,11 @@ fn validate(freq_hz: &[f64], mu: &[C64]) -> Result<(), FitError> {
 /// Lin-KK check of the measured spectrum (`mu` = μ′ − jμ″ at `freq_hz`, increasing).
 pub fn lin_kk(freq_hz: &[f64], mu: &[C64]) -> Result<KkOutcome, FitError> {
     validate(freq_hz, mu)?;
-    let data = Data {
-        freq_hz,
-        mu,
-        weight: mu.iter().map(|m| 1.0 / m.norm()).collect(),
-    };
+    let data = Data::new(freq_hz, mu);
     let decades = (freq_hz[freq_hz.len() - 1] / freq_hz[0]).log10();
     // Leave at least as many real values as weights, with room for the resonance grid.
-    let m_max =
-        ((MAX_PER_DECADE * decades).ceil() as usize + 1).clamp(1, (freq_hz.len() / 2).max(1));
+    let m_max = ((MAX_PER_DECADE * decades).ceil() as usize + 1)
+        .clamp(1, (freq_hz.len().min(FIT_POINTS) / 2).max(1));
     let mut best = (
         KkBasis::Relaxation,
         run_basis(&data, KkBasis::Relaxation, m_max),
