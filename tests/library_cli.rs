@@ -200,8 +200,13 @@ fn promote_refuses_and_names_the_failed_rule() {
     // Offsets ±4 %: rms_rel = 2.84 % > 2 % and the pair sums to 8.0 % > 5 %.
     let disagree = fx::fit(&fx::spin_wall(), &[0.0, 0.04, -0.015]);
     let noisy = fx::fit(&fx::spin_wall(), &[0.04, -0.04]);
-    let cases: [(&str, &mucurve::fit::report::FitReport, &[&str]); 5] = [
+    // Two windings on one core (two files, one sample): one sample, nothing to compare.
+    let mut one_core = fx::good_fit();
+    one_core.provenance.iter_mut().for_each(|p| p.sample = 0);
+    one_core.residuals.iter_mut().for_each(|r| r.sample = 0);
+    let cases: [(&str, &mucurve::fit::report::FitReport, &[&str]); 6] = [
         ("one", &one_sample, &["two-samples", "samples-agree"]),
+        ("one-core", &one_core, &["two-samples", "samples-agree"]),
         ("kk", &kk_fail, &["kk-pass"]),
         ("warned", &warned, &["no-warnings"]),
         ("disagree", &disagree, &["samples-agree"]),

@@ -1,9 +1,9 @@
 //! One fit, the Kramers–Kronig check of each source and the physics sanity → the one
 //! [`FitReport`] that feeds the text report, `--json`, the `-o` file and the material library.
 //!
-//! A fit may cover several sources (samples of one material fitted by one shared model). The
-//! report then lists the residuals source by source, in provenance order and each in ascending
-//! frequency (the layout the library's vetting reads), and the KK figures of the worst source.
+//! A fit may cover several sources (samples of one material fitted by one shared model). Each
+//! residual point and each provenance entry carries its sample's index, which the library's
+//! vetting groups by; the KK figures are those of the worst source.
 
 use super::engine::FitOutcome;
 use super::kk::KK_RESIDUAL_LIMIT;
@@ -96,13 +96,15 @@ pub fn build_report(
     warnings.extend(sanity::warnings(&freq, &mu, &outcome.model, js));
     let residuals = sources
         .iter()
-        .flat_map(|s| {
-            s.freq_hz.iter().zip(&s.mu).map(|(&f, m)| {
+        .enumerate()
+        .flat_map(|(sample, s)| {
+            s.freq_hz.iter().zip(&s.mu).map(move |(&f, m)| {
                 let r = (outcome.model.mu(f) - m) / m.norm();
                 ResidualPoint {
                     freq_hz: f,
                     re: r.re,
                     im: r.im,
+                    sample,
                 }
             })
         })
@@ -126,7 +128,12 @@ pub fn build_report(
         runner_up,
         provenance: sources
             .iter()
-            .flat_map(|s| s.provenance.iter().cloned())
+            .enumerate()
+            .flat_map(|(sample, s)| {
+                s.provenance
+                    .iter()
+                    .map(move |p| SourceProvenance { sample, ..p.clone() })
+            })
             .collect(),
         residuals,
     }

@@ -64,6 +64,10 @@ pub struct SourceProvenance {
     pub temperature_c: Option<f64>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub notes: Option<String>,
+    /// Which physical sample (core) this sweep measured, numbered from 0 within one fit.
+    /// Several windings on one core share a sample; vetting compares different samples.
+    #[serde(default)]
+    pub sample: usize,
 }
 
 /// The residual at one frequency, relative complex error (model − measured)/|measured|.
@@ -72,6 +76,9 @@ pub struct ResidualPoint {
     pub freq_hz: f64,
     pub re: f64,
     pub im: f64,
+    /// The sample (see [`SourceProvenance::sample`]) this point was measured on.
+    #[serde(default)]
+    pub sample: usize,
 }
 
 /// One fit, as printed with `--json` (one line) and written with `-o`.

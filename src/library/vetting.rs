@@ -4,33 +4,41 @@
 //! 2. `no-warnings` — the fit carries no sanity or fit warnings (μ″ ≥ 0, Snoek product, ...).
 //! 3. `residual-rms` — rms relative residual ≤ 2 % ([`RMS_REL_MAX`]).
 //! 4. `residual-max` — largest relative residual ≤ 10 % ([`MAX_REL_MAX`]).
-//! 5. `two-samples` — at least two source sweeps with different file SHA-256 ([`MIN_SAMPLES`]).
-//! 6. `samples-agree` — any two sources agree within 5 % ([`SAMPLE_AGREEMENT`]).
+//! 5. `two-samples` — at least two physical samples ([`MIN_SAMPLES`]), and no file listed under
+//!    two of them.
+//! 6. `samples-agree` — any two samples agree within 5 % ([`SAMPLE_AGREEMENT`]).
 //!
-//! How rule 6 is measured: the fit file holds one shared model fitted to all sources and the
-//! residuals of all of them, listed source by source in provenance order, each in ascending
-//! frequency (a new source starts where the frequency stops rising). For each source k,
-//! d_k = rms over its points of |r| (r the complex relative residual). By the triangle
-//! (Minkowski) inequality the rms relative difference between the μ of sources j and k is at
-//! most d_j + d_k, so the rule is d_j + d_k ≤ 5 % for every pair. Why 5 %: a model published
-//! for a material must describe the samples it came from much better than the ±20–25 %
-//! unit-to-unit tolerance of ferrite cores, but two different samples cannot be expected to
-//! agree as closely as a refit of the same data (1–2 %) (both PHYSICS.md §8, common practice).
-//! If the residuals cannot be split into as many runs as there are sources the rule fails and
-//! says so.
+//! What a sample is: one fitted spectrum, measured on one core. The fit numbers its spectra from
+//! 0 and tags every provenance entry and every residual point with its spectrum's `sample`
+//! index. A sample may come from several sweeps (the lead inductance is solved across a 1- and a
+//! 2-turn winding on the same core), so provenance entries are not samples, and two windings on
+//! one core are one sample. Rule 5 counts distinct `sample` values; one file (one SHA-256)
+//! listed under two samples means the "two" samples are the same measurement, so the rule also
+//! needs the samples' file sets to be disjoint. Files written before the index existed read as
+//! sample 0 throughout, i.e. one sample: they stay readable but cannot be vetted without a refit.
+//!
+//! How rule 6 is measured: the fit file holds one shared model fitted to all samples and the
+//! residuals of all of them. For each sample k, d_k = rms over its residual points of |r| (r the
+//! complex relative residual). By the triangle (Minkowski) inequality the rms relative
+//! difference between the μ of samples j and k is at most d_j + d_k, so the rule is
+//! d_j + d_k ≤ 5 % for every pair. Why 5 %: a model published for a material must describe the
+//! samples it came from much better than the ±20–25 % unit-to-unit tolerance of ferrite cores,
+//! but two different samples cannot be expected to agree as closely as a refit of the same data
+//! (1–2 %) (both PHYSICS.md §8, common practice). A sample listed in provenance without residual
+//! points, or residual points of a sample provenance does not list, fail the rule and say so.
 
 use super::material::Material;
 use crate::fit::report::ResidualPoint;
 use serde::Serialize;
-use std::collections::BTreeSet;
+use std::collections::{BTreeMap, BTreeSet};
 
 /// Largest accepted rms relative residual of the fit.
 pub const RMS_REL_MAX: f64 = 0.02;
 /// Largest accepted single relative residual.
 pub const MAX_REL_MAX: f64 = 0.10;
-/// Fewest source sweeps with distinct content.
+/// Fewest physical samples (distinct `sample` indices).
 pub const MIN_SAMPLES: usize = 2;
-/// Largest accepted d_j + d_k for any two sources (see the module text).
+/// Largest accepted d_j + d_k for any two samples (see the module text).
 pub const SAMPLE_AGREEMENT: f64 = 0.05;
 
 /// The outcome of one rule.
@@ -48,7 +56,6 @@ fn outcome(rule: &'static str, pass: bool, detail: String) -> RuleOutcome {
 /// Every rule, in order, applied to `m`.
 pub fn evaluate(m: &Material) -> Vec<RuleOutcome> {
     let pct = |x: f64| format!("{:.2} %", 100.0 * x);
-    let distinct: BTreeSet<&str> = m.provenance.iter().map(|p| p.sha256.as_str()).collect();
     vec![
         outcome(
             "kk-pass",
@@ -87,15 +94,7 @@ pub fn evaluate(m: &Material) -> Vec<RuleOutcome> {
                 pct(MAX_REL_MAX)
             ),
         ),
-        outcome(
-            "two-samples",
-            distinct.len() >= MIN_SAMPLES,
-            format!(
-                "{} source sweep(s) with distinct SHA-256 (need {})",
-                distinct.len(),
-                MIN_SAMPLES
-            ),
-        ),
+        two_samples(m),
         samples_agree(m),
     ]
 }
@@ -105,89 +104,161 @@ pub fn failures(m: &Material) -> Vec<RuleOutcome> {
     evaluate(m).into_iter().filter(|r| !r.pass).collect()
 }
 
+/// The files of each sample, by sample index: (file name, SHA-256) of its provenance entries.
+fn sample_files(m: &Material) -> BTreeMap<usize, BTreeSet<(&str, &str)>> {
+    let mut samples: BTreeMap<usize, BTreeSet<(&str, &str)>> = BTreeMap::new();
+    for p in &m.provenance {
+        samples
+            .entry(p.sample)
+            .or_default()
+            .insert((p.file.as_str(), p.sha256.as_str()));
+    }
+    samples
+}
+
+/// Sample names for messages: `sample K (file, file)`.
+fn sample_label(k: usize, files: Option<&BTreeSet<(&str, &str)>>) -> String {
+    let names: Vec<&str> = files.into_iter().flatten().map(|(f, _)| *f).collect();
+    format!("sample {} ({})", k, names.join(", "))
+}
+
+fn two_samples(m: &Material) -> RuleOutcome {
+    const RULE: &str = "two-samples";
+    let samples = sample_files(m);
+    // Each file's SHA-256 → the first sample it was listed under, and the first file that is
+    // listed under a second sample.
+    let mut owner: BTreeMap<&str, usize> = BTreeMap::new();
+    let mut shared = None;
+    for (&k, files) in &samples {
+        for &(file, sha) in files {
+            match owner.get(sha) {
+                Some(&j) if j != k => shared = shared.or(Some((file, j, k))),
+                _ => {
+                    owner.insert(sha, k);
+                }
+            }
+        }
+    }
+    let mut detail = format!(
+        "{} sample(s) from {} distinct file(s) (need {} samples, no file shared)",
+        samples.len(),
+        owner.len(),
+        MIN_SAMPLES
+    );
+    if let Some((file, j, k)) = shared {
+        detail.push_str(&format!(
+            "; file {} is listed under samples {} and {}: one measurement cannot be two samples",
+            file, j, k
+        ));
+    } else if samples.len() < MIN_SAMPLES && owner.len() >= MIN_SAMPLES {
+        detail.push_str(
+            "; the files are windings of one core, or the fit predates the sample index: refit with one source per core",
+        );
+    }
+    outcome(
+        RULE,
+        samples.len() >= MIN_SAMPLES && shared.is_none(),
+        detail,
+    )
+}
+
 fn samples_agree(m: &Material) -> RuleOutcome {
     const RULE: &str = "samples-agree";
-    let runs = source_runs(&m.residuals);
-    if runs.len() != m.provenance.len() {
+    let samples = sample_files(m);
+    let mut points: BTreeMap<usize, Vec<&ResidualPoint>> = BTreeMap::new();
+    for r in &m.residuals {
+        points.entry(r.sample).or_default().push(r);
+    }
+    if let Some(k) = samples.keys().find(|k| !points.contains_key(k)) {
         return outcome(
             RULE,
             false,
             format!(
-                "cannot attribute the residuals to the {} source(s): they form {} ascending run(s)",
-                m.provenance.len(),
-                runs.len()
+                "{} has no residual points to compare",
+                sample_label(*k, samples.get(k))
             ),
         );
     }
-    if runs.len() < 2 {
-        return outcome(RULE, false, "needs at least two sources to compare".into());
+    if let Some(k) = points.keys().find(|k| !samples.contains_key(k)) {
+        return outcome(
+            RULE,
+            false,
+            format!("residual points of sample {k}, which no provenance entry lists"),
+        );
     }
-    let d: Vec<f64> = runs.iter().map(|r| rms_magnitude(r)).collect();
-    let mut worst = (0.0, 0, 0);
-    for j in 0..d.len() {
-        for k in j + 1..d.len() {
-            if d[j] + d[k] > worst.0 {
-                worst = (d[j] + d[k], j, k);
+    if samples.len() < 2 {
+        return outcome(RULE, false, "needs at least two samples to compare".into());
+    }
+    let d: Vec<(usize, f64)> = points
+        .iter()
+        .map(|(&k, pts)| (k, rms_magnitude(pts.iter().copied())))
+        .collect();
+    let mut worst = (f64::NEG_INFINITY, d[0], d[1]);
+    for (i, &a) in d.iter().enumerate() {
+        for &b in &d[i + 1..] {
+            if a.1 + b.1 > worst.0 {
+                worst = (a.1 + b.1, a, b);
             }
         }
     }
-    let (sum, j, k) = worst;
+    let (sum, (j, dj), (k, dk)) = worst;
     outcome(
         RULE,
         sum <= SAMPLE_AGREEMENT,
         format!(
             "worst pair {} and {}: d = {:.2} % + {:.2} % = {:.2} % (limit {:.2} %)",
-            m.provenance[j].file,
-            m.provenance[k].file,
-            100.0 * d[j],
-            100.0 * d[k],
+            sample_label(j, samples.get(&j)),
+            sample_label(k, samples.get(&k)),
+            100.0 * dj,
+            100.0 * dk,
             100.0 * sum,
             100.0 * SAMPLE_AGREEMENT
         ),
     )
 }
 
-/// The residuals split into runs of rising frequency (one run per source sweep).
-pub fn source_runs(residuals: &[ResidualPoint]) -> Vec<&[ResidualPoint]> {
-    let mut runs = Vec::new();
-    let mut start = 0;
-    for i in 1..residuals.len() {
-        if residuals[i].freq_hz <= residuals[i - 1].freq_hz {
-            runs.push(&residuals[start..i]);
-            start = i;
-        }
+/// rms of |r| over `points`: sqrt(mean(re² + im²)); 0 for no points.
+pub fn rms_magnitude<'a>(points: impl IntoIterator<Item = &'a ResidualPoint>) -> f64 {
+    let (sum, n) = points.into_iter().fold((0.0, 0usize), |(s, n), p| {
+        (s + p.re * p.re + p.im * p.im, n + 1)
+    });
+    if n == 0 {
+        0.0
+    } else {
+        (sum / n as f64).sqrt()
     }
-    if !residuals.is_empty() {
-        runs.push(&residuals[start..]);
-    }
-    runs
-}
-
-/// rms of |r| over `points`: sqrt(mean(re² + im²)).
-pub fn rms_magnitude(points: &[ResidualPoint]) -> f64 {
-    if points.is_empty() {
-        return 0.0;
-    }
-    (points
-        .iter()
-        .map(|p| p.re * p.re + p.im * p.im)
-        .sum::<f64>()
-        / points.len() as f64)
-        .sqrt()
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::library::material::example_material;
+    use crate::library::{canonical, material::example_material, material::EXAMPLE_TEXT};
+    use serde_json::Value;
+    use std::path::Path;
 
     fn failed(m: &Material) -> Vec<&'static str> {
         failures(m).iter().map(|r| r.rule).collect()
     }
 
+    fn detail(m: &Material, rule: &str) -> String {
+        evaluate(m)
+            .into_iter()
+            .find(|r| r.rule == rule)
+            .unwrap()
+            .detail
+    }
+
+    /// Panic unless the detail of `rule` on `m` holds every one of `parts`.
+    fn assert_says(m: &Material, rule: &str, parts: &[&str]) {
+        let text = detail(m, rule);
+        assert!(parts.iter().all(|p| text.contains(p)), "{rule}: {text}");
+    }
+
     #[test]
     fn the_example_meets_every_rule() {
-        assert_eq!(failed(&example_material()), Vec::<&str>::new());
+        let m = example_material();
+        assert_eq!(failed(&m), Vec::<&str>::new());
+        assert!(detail(&m, "two-samples").starts_with("2 sample(s) from 2 distinct file(s)"));
     }
 
     /// The limits are inclusive: rms_rel = 2 % and max_rel = 10 % pass, anything above fails.
@@ -207,50 +278,112 @@ mod tests {
         m.stats.rms_rel = 0.0201;
         m.stats.max_rel = 0.1001;
         assert_eq!(failed(&m), ["residual-rms", "residual-max"]);
+        // The same file listed as the second sample: one measurement counted twice.
         let mut m = base.clone();
         m.provenance[1].sha256 = m.provenance[0].sha256.clone();
         assert_eq!(failed(&m), ["two-samples"]);
+        assert_says(
+            &m,
+            "two-samples",
+            &["listed under samples 0 and 1", "1 distinct file(s)"],
+        );
     }
 
-    /// Two runs with |r| = 3 % and 2.5 % everywhere: d sums to 5.5 % > 5 %; at 2.4 % and 2.5 %
-    /// the sum is 4.9 % and passes.
+    /// Provenance entries are not samples: a 1- and a 2-turn winding on one core (lead
+    /// inductance solved across them) are one sample, and a second winding on the second core
+    /// does not add a third.
     #[test]
-    fn samples_agree_uses_the_per_source_rms_of_the_residuals() {
+    fn two_samples_counts_sample_indices_not_files() {
+        let base = example_material();
+        let mut m = base.clone();
+        let mut winding = m.provenance[1].clone();
+        winding.file = "example-ferrite-ring2-1t.s1p".into();
+        winding.sha256 = canonical::sha256_hex(winding.file.as_bytes());
+        m.provenance.push(winding);
+        assert!(failed(&m).is_empty(), "{:?}", failures(&m));
+        assert!(detail(&m, "two-samples").starts_with("2 sample(s) from 3 distinct file(s)"));
+
+        let mut m = base.clone();
+        m.provenance[1].sample = 0;
+        for r in &mut m.residuals {
+            r.sample = 0;
+        }
+        assert_eq!(failed(&m), ["two-samples", "samples-agree"]);
+        assert_says(
+            &m,
+            "two-samples",
+            &["1 sample(s) from 2 distinct file(s)", "refit"],
+        );
+    }
+
+    /// A file written before the sample index existed still loads (the field is optional in the
+    /// schema) and reads as one sample, so it cannot be vetted without a refit.
+    #[test]
+    fn a_file_without_sample_indices_loads_as_one_sample() {
+        let mut doc: Value = serde_json::from_str(EXAMPLE_TEXT).unwrap();
+        for list in ["provenance", "residuals"] {
+            for entry in doc[list].as_array_mut().unwrap() {
+                entry.as_object_mut().unwrap().remove("sample");
+            }
+        }
+        let m = Material::from_document(&canonical::seal(doc), Path::new("old.json")).unwrap();
+        assert_eq!(failed(&m), ["two-samples", "samples-agree"]);
+        assert_eq!(
+            detail(&m, "samples-agree"),
+            "needs at least two samples to compare"
+        );
+    }
+
+    /// Two samples with |r| = 3 % and 2.5 % everywhere: d sums to 5.5 % > 5 %; at 2.4 % and 2.5 %
+    /// the sum is 4.9 % and passes (Minkowski bound, PHYSICS.md §8 limits, common practice).
+    /// The verdict depends on the sample index alone, not on the order of the points.
+    #[test]
+    fn samples_agree_uses_the_per_sample_rms_of_the_residuals() {
         let mut m = example_material();
-        let half = m.residuals.len() / 2;
         let set = |m: &mut Material, a: f64, b: f64| {
-            for (i, r) in m.residuals.iter_mut().enumerate() {
-                let mag = if i < half { a } else { b };
+            for r in m.residuals.iter_mut() {
+                let mag = if r.sample == 0 { a } else { b };
                 (r.re, r.im) = (mag * 0.6, -mag * 0.8);
             }
         };
         set(&mut m, 0.03, 0.025);
         assert_eq!(failed(&m), ["samples-agree"]);
+        assert_says(&m, "samples-agree", &["3.00 % + 2.50 % = 5.50 %"]);
         set(&mut m, 0.024, 0.025);
         assert!(failed(&m).is_empty());
-        // Residuals merged into one frequency-sorted list cannot be attributed to sources.
+        let before = evaluate(&m);
         m.residuals.sort_by(|a, b| a.freq_hz.total_cmp(&b.freq_hz));
-        m.residuals.dedup_by(|a, b| a.freq_hz == b.freq_hz);
-        let detail = evaluate(&m)
-            .into_iter()
-            .find(|r| r.rule == "samples-agree")
-            .unwrap();
-        assert!(
-            !detail.pass && detail.detail.contains("cannot attribute"),
-            "{}",
-            detail.detail
+        assert_eq!(evaluate(&m), before);
+    }
+
+    /// A sample in provenance without residual points, and residual points of a sample that
+    /// provenance does not list, cannot be compared: the rule fails and names the sample.
+    #[test]
+    fn samples_agree_fails_on_an_unmatched_sample() {
+        let base = example_material();
+        let mut m = base.clone();
+        m.residuals.retain(|r| r.sample == 0);
+        assert_eq!(failed(&m), ["samples-agree"]);
+        assert_says(
+            &m,
+            "samples-agree",
+            &["sample 1 (example-ferrite-ring2-5t.s1p) has no residual points"],
         );
+        let mut m = base.clone();
+        m.residuals[0].sample = 7;
+        assert_eq!(failed(&m), ["samples-agree"]);
+        assert_says(&m, "samples-agree", &["sample 7", "no provenance entry"]);
     }
 
     #[test]
-    fn runs_split_where_frequency_stops_rising() {
-        let p = |f: f64| ResidualPoint {
-            freq_hz: f,
-            re: 0.0,
-            im: 0.0,
+    fn rms_magnitude_of_no_points_is_zero() {
+        let p = ResidualPoint {
+            freq_hz: 1.0,
+            re: 0.3,
+            im: 0.4,
+            sample: 0,
         };
-        let pts = [p(1.0), p(2.0), p(3.0), p(1.0), p(2.0), p(2.0)];
-        let lens: Vec<usize> = source_runs(&pts).iter().map(|r| r.len()).collect();
-        assert_eq!(lens, [3, 2, 1]);
+        assert_eq!(rms_magnitude([]), 0.0);
+        assert!((rms_magnitude([&p, &p]) - 0.5).abs() < 1e-15);
     }
 }

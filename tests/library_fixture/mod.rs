@@ -1,5 +1,5 @@
 //! Fit reports built in Rust for the library tests: a known model "measured" on several sources,
-//! each a scaled copy of the model, so residuals, their statistics and the per-source agreement
+//! each a scaled copy of the model, so residuals, their statistics and the per-sample agreement
 //! are known in closed form (|r| = |o|/(1 + o) for a source scaled by 1 + o).
 #![allow(dead_code)]
 
@@ -32,7 +32,8 @@ pub fn debye(delta_mu: f64, f_hz: f64) -> Model {
     }
 }
 
-/// A clean fit of `model` to one source per entry of `offsets` (source k measured μ·(1 + o_k)).
+/// A clean fit of `model` to one source per entry of `offsets` (source k measured μ·(1 + o_k)),
+/// each source its own sample (core) with sample index k.
 pub fn fit(model: &Model, offsets: &[f64]) -> FitReport {
     fit_n(model, offsets, POINTS)
 }
@@ -51,6 +52,7 @@ pub fn fit_n(model: &Model, offsets: &[f64], points: usize) -> FitReport {
                 freq_hz: f,
                 re: r.re,
                 im: r.im,
+                sample: k,
             });
         }
         let file = format!("sample{}-5t.s1p", k + 1);
@@ -63,6 +65,7 @@ pub fn fit_n(model: &Model, offsets: &[f64], points: usize) -> FitReport {
             corrections: vec!["open-short".into()],
             temperature_c: Some(23.0),
             notes: None,
+            sample: k,
         });
     }
     let sq: Vec<f64> = residuals

@@ -121,6 +121,12 @@ def main():
         "fit_file extra field": set_path(["fit_file", "size"], 3),
         "correlation labels given": set_path(["model", "correlation_params"], ["mu_inf", "debye#1.delta_mu"]),
         "correlation label not text": set_path(["model", "correlation_params"], [1]),
+        "source without sample (older file)": delete(["provenance", 0, "sample"]),
+        "residual without sample (older file)": delete(["residuals", 0, "sample"]),
+        "source sample written as 1.0": set_path(["provenance", 1, "sample"], 1.0),
+        "source sample negative": set_path(["provenance", 0, "sample"], -1),
+        "source sample 0.5": set_path(["provenance", 0, "sample"], 0.5),
+        "residual sample as text": set_path(["residuals", 0, "sample"], "0"),
     }
     cases = []
     for name, change in changes.items():
