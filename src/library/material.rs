@@ -165,7 +165,9 @@ impl Material {
     }
 }
 
-/// The committed example material file (written by `mucurve publish`), shared by unit tests.
+/// The committed example material file (written by `mucurve publish`; its `sample` indices and
+/// self-hash were added afterwards with tests/reference/material_schema_cases.py's canonical
+/// form), shared by unit tests.
 #[cfg(test)]
 pub(crate) const EXAMPLE_TEXT: &str = include_str!("../../tests/reference/material_example.json");
 

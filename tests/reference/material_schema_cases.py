@@ -1,7 +1,7 @@
 """Reference verdicts for the material file format, from Python's `jsonschema` (PyPI).
 
 Validates the committed example material file (material_example.json, written by
-`mucurve publish`) and a set of single-change variants of it against
+`mucurve publish`, sample indices added by hand and resealed with self_hash below) and a set of single-change variants of it against
 src/library/material.schema.json with jsonschema's Draft 2020-12 validator, and recomputes the
 example's self-hash with hashlib over Python's own canonical JSON (keys sorted, no whitespace).
 Writes material_schema_cases.json; the Rust tests compare the crate's schema validator with
