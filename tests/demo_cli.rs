@@ -129,13 +129,23 @@ fn committed_measurements_ingest_cleanly_and_match_the_true_impedance() {
 fn demo_runs_on_the_committed_measurements_and_exits_zero() {
     let out = Scratch::new();
     let run = mucurve(&["demo", "--out", out.dir.path().to_str().unwrap()]).ok();
-    for said in
-        ["byte for byte", "Ingest", "Extract", "lead solved", "Fit", "Publish", "Vet", " vetted", "licensed practice"]
-    {
+    for said in [
+        "byte for byte",
+        "Ingest",
+        "Extract",
+        "lead solved",
+        "Fit",
+        "Publish",
+        "Vet",
+        " vetted",
+        "Export",
+        "licensed practice",
+    ] {
         assert!(run.stdout.contains(said), "no '{}' in:\n{}", said, run.stdout);
     }
     assert!(out.path("impedance/driftwood_dw2411-01_t25_1t.csv").is_file());
     assert!(out.path("fitted_models/kelpline/v0001.json").is_file());
+    assert!(out.path("exports/kelpline_cable-entry.lib").is_file());
     let text = std::fs::read_to_string(out.path("mu/driftwood_dw-2411-01_1+2t.csv")).unwrap();
     let table = mucurve::extract::read_mu_table(&text).unwrap();
     let truth = generate::sample_model(&scenario::plans()[0]).unwrap();

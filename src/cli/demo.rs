@@ -41,8 +41,8 @@ pub fn run(args: Args) -> Result<(), Failure> {
     };
     let s = pipeline::run(&opts, &mut print).map_err(|e| Failure::input(e.to_string()))?;
     println!(
-        "\nDone: {} files, {} ingested, {} permeability spectra extracted, {} fits, {} versions published, {} vetted.",
-        s.files, s.ingested, s.extracted, s.fitted, s.published, s.vetted
+        "\nDone: {} files, {} ingested, {} permeability spectra extracted, {} fits, {} versions published, {} vetted, {} exports.",
+        s.files, s.ingested, s.extracted, s.fitted, s.published, s.vetted, s.exported
     );
     println!(
         "Results in {}; the demo library in {} (try `mucurve library list --library {}`).",

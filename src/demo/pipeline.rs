@@ -47,6 +47,8 @@ pub struct Summary {
     pub fitted: usize,
     pub published: usize,
     pub vetted: usize,
+    /// Files exported for other tools.
+    pub exported: usize,
     /// `file: reason` for every file a stage could not handle.
     pub failures: Vec<String>,
 }
@@ -84,6 +86,7 @@ pub fn run(opts: &Options, report: &mut dyn FnMut(Event)) -> Result<Summary, Dem
     let mut releases = release::plan_releases(&items, &groups);
     release::fit_all(&opts.out_dir, &items, &groups, &mut releases, &mut summary, report)?;
     release::publish_and_vet(&opts.library_dir, &mut releases, &mut summary, report)?;
+    release::export_vetted(&opts.out_dir, &opts.library_dir, &releases, &mut summary, report)?;
     Ok(summary)
 }
 

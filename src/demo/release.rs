@@ -10,6 +10,7 @@ use super::materials::{self, Material};
 use super::pipeline::{io_error, own_warnings, Event, Group, Item, Summary};
 use super::DemoError;
 use crate::error::Diagnostic;
+use crate::export::{self, Request};
 use crate::extract::band::hz;
 use crate::extract::LeadSource;
 use crate::fit::analysis::{analyse, FitRequest, ModelChoice};
@@ -39,6 +40,7 @@ pub(super) struct Release {
     pub note: String,
     pub fit_path: Option<PathBuf>,
     pub version: Option<u32>,
+    pub vetted: bool,
 }
 
 /// Per material: one release from its on-spec lots, preceded (when the material has an off-spec
@@ -65,6 +67,7 @@ pub(super) fn plan_releases(items: &[Item], groups: &[Group]) -> Vec<Release> {
             with_off_spec,
             fit_path: None,
             version: None,
+            vetted: false,
         };
         if mine.len() > on_spec.len() {
             releases.push(release("all-lots", mine.clone(), true));
@@ -262,13 +265,14 @@ pub(super) fn publish_and_vet(
     }
     report(Event::Step("Vet: promote the versions that meet the library's rules".to_string()));
     let mut vetted: Vec<(String, u32)> = Vec::new();
-    for r in releases.iter() {
+    for r in releases.iter_mut() {
         let (id, Some(v)) = (r.material.id, r.version) else { continue };
         let why = "demo: samples of the on-spec lots fitted by one causal model";
         match lib.promote(id, v, BY, why) {
             Ok(_) => {
                 summary.vetted += 1;
                 vetted.push((id.to_string(), v));
+                r.vetted = true;
                 report(Event::Detail(format!("{}@{} vetted", id, v)));
             }
             Err(e) => {
@@ -284,6 +288,70 @@ pub(super) fn publish_and_vet(
         let why = "includes an off-spec lot; superseded by the on-spec version";
         lib.retire(id, v, BY, why, Some(&successor)).map_err(|e| DemoError(e.0))?;
         report(Event::Detail(format!("{}@{} retired, superseded by {}", id, v, successor)));
+    }
+    Ok(())
+}
+
+/// The part the organisation puts on its cable entries: one pass of the cable through the clip-on
+/// sleeve, with the short loop of a cable entry as lead.
+pub const CABLE_ENTRY_CORE: &str = "split:od=17.5mm,id=8.5mm,h=28mm,gap=6um";
+pub const CABLE_ENTRY_LEAD: &str = "20nH";
+
+/// Step 7: for every vetted version, the cable-entry part as a SPICE sub-circuit and as a
+/// series-through Touchstone file, through the export stage.
+pub(super) fn export_vetted(
+    out_dir: &Path,
+    library_dir: &Path,
+    releases: &[Release],
+    summary: &mut Summary,
+    report: &mut dyn FnMut(Event),
+) -> Result<(), DemoError> {
+    let dir = out_dir.join("exports");
+    report(Event::Step(format!(
+        "Export: each vetted material as the cable-entry part (1 turn through {}, {} lead) -> {}",
+        CABLE_ENTRY_CORE,
+        CABLE_ENTRY_LEAD,
+        dir.display()
+    )));
+    std::fs::create_dir_all(&dir).map_err(|e| io_error(&dir, "create the folder", e))?;
+    let core = crate::geometry::Core::parse(CABLE_ENTRY_CORE).map_err(|e| DemoError(e.0))?;
+    for r in releases.iter().filter(|r| r.vetted) {
+        let (id, Some(v)) = (r.material.id, r.version) else { continue };
+        for (format, ext) in [("spice", "lib"), ("touchstone", "s2p")] {
+            let req = Request {
+                library: library_dir.to_path_buf(),
+                material: format!("{}@{}", id, v),
+                format: format.to_string(),
+                freq: Some("1MHz..1GHz:201".to_string()),
+                core: Some(core.clone()),
+                turns: Some("1".to_string()),
+                cores: None,
+                lead_inductance: Some(CABLE_ENTRY_LEAD.to_string()),
+                winding_capacitance: None,
+                z0: None,
+                ports: None,
+                name: None,
+                output: dir.join(format!("{}_cable-entry.{}", id, ext)),
+            };
+            let done = export::plan(&req).map_err(|e| e.to_string()).and_then(|plan| {
+                let out = export::render(&plan);
+                crate::fsutil::write_atomic(&plan.output, out.text.as_bytes()).map_err(|e| e.to_string())?;
+                Ok((plan, out.summary))
+            });
+            match done {
+                Ok((plan, what)) => {
+                    summary.exported += 1;
+                    report(Event::Detail(format!("{}: {}", plan.output.display(), what)));
+                    for w in &plan.warnings {
+                        report(Event::Warning(format!("{}@{} {}: {}", id, v, format, w)));
+                    }
+                }
+                Err(reason) => {
+                    report(Event::Warning(format!("{}@{} {}: not exported: {}", id, v, format, reason)));
+                    summary.failures.push(format!("{}@{} {}: {}", id, v, format, reason));
+                }
+            }
+        }
     }
     Ok(())
 }
