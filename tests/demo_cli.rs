@@ -167,3 +167,15 @@ fn demo_without_measurements_fails_with_a_hint() {
     let run = mucurve_in(empty.dir.path(), &["demo"]).failed();
     assert!(run.stderr.contains("--regenerate"), "{}", run.stderr);
 }
+
+// The demo replaces only a library of its own materials: a user's material in ./fitted_models
+// stops `--regenerate` before anything is written.
+#[test]
+fn demo_refuses_to_replace_a_library_that_is_not_its_own() {
+    let cwd = Scratch::new();
+    cwd.write("fitted_models/our-gasket-ferrite/v0001.json", "{}");
+    let run = mucurve_in(cwd.dir.path(), &["demo", "--regenerate"]).failed();
+    assert!(run.stderr.contains("our-gasket-ferrite"), "{}", run.stderr);
+    assert!(cwd.path("fitted_models/our-gasket-ferrite/v0001.json").is_file());
+    assert!(!cwd.path("raw_measurements").exists());
+}

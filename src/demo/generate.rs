@@ -244,6 +244,21 @@ mod tests {
     use super::*;
 
     #[test]
+    fn differences_name_changed_missing_and_foreign_files() {
+        let tmp = tempfile::tempdir().unwrap();
+        let written = write_all(tmp.path()).unwrap();
+        assert!(differences(tmp.path()).unwrap().is_empty());
+        std::fs::write(&written[0], b"edited").unwrap();
+        std::fs::remove_file(&written[1]).unwrap();
+        std::fs::write(tmp.path().join("old_sweep.s1p"), b"# Hz S RI R 50").unwrap();
+        let names = |p: &PathBuf| p.file_name().unwrap().to_string_lossy().into_owned();
+        assert_eq!(
+            differences(tmp.path()).unwrap(),
+            vec![names(&written[0]), names(&written[1]), "old_sweep.s1p (not generated)".to_string()]
+        );
+    }
+
+    #[test]
     fn generation_is_deterministic() {
         assert_eq!(generate_all().unwrap(), generate_all().unwrap());
     }

@@ -72,6 +72,8 @@ pub(super) struct Group {
 
 /// Run the demo.
 pub fn run(opts: &Options, report: &mut dyn FnMut(Event)) -> Result<Summary, DemoError> {
+    // Refuse before any work if the library folder holds something the demo must not replace.
+    release::check_replaceable(&opts.library_dir)?;
     prepare_raw(opts, report)?;
     let entries = manifest::read(&opts.raw_dir.join(manifest::MANIFEST))?;
     report(Event::Detail(format!("manifest: {} files", entries.len())));

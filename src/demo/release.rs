@@ -215,9 +215,9 @@ fn compare_with_truth(fit: &FitReport, truth: &Model) -> String {
     )
 }
 
-/// Make `dir` an empty place for the demo library: it may only hold demo materials (and the
-/// library's lock file) from an earlier run, which are removed; anything else is refused.
-pub fn fresh_library(dir: &Path) -> Result<(), DemoError> {
+/// Check that `dir` is missing or holds only demo materials (and the library's lock file) from an
+/// earlier run, so that replacing it cannot lose anyone's work.
+pub fn check_replaceable(dir: &Path) -> Result<(), DemoError> {
     if !dir.exists() {
         return Ok(());
     }
@@ -228,14 +228,24 @@ pub fn fresh_library(dir: &Path) -> Result<(), DemoError> {
         if !ours.contains(&name.as_str()) && name != crate::library::layout::LOCK_FILE {
             return Err(Diagnostic::new(format!("the folder holds '{}', which is not a demo material", name))
                 .file(dir)
-                .expected(format!("a folder holding only the demo materials ({})", ours.join(", ")))
+                .expected(format!("no folder, or one holding only the demo materials ({})", ours.join(", ")))
                 .hint(
-                    "the demo replaces its own library only; move your library elsewhere or give --out another folder",
+                    "the demo replaces only a library of its own; with --regenerate it publishes into ./fitted_models, \
+                     otherwise into DIR/fitted_models of --out DIR: move your library or choose another folder",
                 )
                 .into());
         }
     }
-    std::fs::remove_dir_all(dir).map_err(|e| io_error(dir, "clear the previous demo library", e))
+    Ok(())
+}
+
+/// Make `dir` an empty place for the demo library (see [`check_replaceable`]).
+pub fn fresh_library(dir: &Path) -> Result<(), DemoError> {
+    check_replaceable(dir)?;
+    if dir.exists() {
+        std::fs::remove_dir_all(dir).map_err(|e| io_error(dir, "clear the previous demo library", e))?;
+    }
+    Ok(())
 }
 
 /// Step 5: publish every fitted release into `library_dir`, then vet: promote what meets the
@@ -354,4 +364,25 @@ pub(super) fn export_vetted(
         }
     }
     Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn only_a_library_of_demo_materials_is_replaced() {
+        let tmp = tempfile::tempdir().unwrap();
+        let lib = tmp.path().join("lib");
+        fresh_library(&lib).unwrap(); // nothing there: nothing to do
+        std::fs::create_dir_all(lib.join("driftwood")).unwrap();
+        std::fs::write(lib.join("driftwood/v0001.json"), "{}").unwrap();
+        fresh_library(&lib).unwrap();
+        assert!(!lib.exists());
+        std::fs::create_dir_all(lib.join("driftwood")).unwrap();
+        std::fs::create_dir_all(lib.join("our-real-material")).unwrap();
+        let err = fresh_library(&lib).unwrap_err();
+        assert!(err.to_string().contains("our-real-material"), "{}", err);
+        assert!(lib.join("our-real-material").exists() && lib.join("driftwood").exists());
+    }
 }
