@@ -336,25 +336,17 @@ fn run_basis(data: &Data, basis: KkBasis, m_max: usize) -> Scored {
     }
     let fixed = FixedBlock::new(&fit_data, funcs);
     let (tau_lo, tau_hi) = (1.0 / (2.0 * PI * f_hi), 1.0 / (2.0 * PI * f_lo));
-    let fit_m = |m: usize| {
-        Scored::new(
-            data,
-            fit_with(&fit_data, &fixed, &log_spaced(tau_lo, tau_hi, m)),
-        )
-    };
-    let mut chosen = None;
-    for m in 1..=m_max {
-        let s = fit_m(m);
-        if s.fit.mu_c() < MU_C_LIMIT || m == m_max {
-            chosen = Some(s);
-            break;
-        }
-    }
-    let chosen = chosen.unwrap_or_else(|| fit_m(m_max));
+    let fit_m = |m: usize| fit_with(&fit_data, &fixed, &log_spaced(tau_lo, tau_hi, m));
+    // Raise M until μ_c drops below the limit; only that fit is evaluated at every point.
+    let first = (1..=m_max)
+        .map(fit_m)
+        .find(|f| f.mu_c() < MU_C_LIMIT)
+        .unwrap_or_else(|| fit_m(m_max));
+    let chosen = Scored::new(data, first);
     if chosen.passes() || chosen.fit.m == m_max {
         return chosen;
     }
-    let densest = fit_m(m_max);
+    let densest = Scored::new(data, fit_m(m_max));
     if densest.better_than(&chosen) {
         densest
     } else {

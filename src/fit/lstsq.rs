@@ -6,6 +6,9 @@
 //! Matrices are held as a list of columns (each column contiguous), the layout the Householder
 //! updates walk through.
 
+/// Relative size below which a downdated column norm is recomputed: √ε, as LAPACK's dgeqp3.
+const DOWNDATE_TOL: f64 = 1.49e-8;
+
 /// A column-pivoted QR factorisation A·P = Q·R of a tall matrix, stored compactly: R on and
 /// above the diagonal of the first `rank` columns, the Householder vectors below it.
 #[derive(Debug, Clone)]
@@ -29,27 +32,38 @@ impl PivotedQr {
         let n = cols.len();
         let mut perm: Vec<usize> = (0..n).collect();
         let mut tau = Vec::with_capacity(n.min(rows));
-        let first_norm = cols.iter().map(|c| norm(c)).fold(0.0, f64::max);
+        // Remaining column norms below row k, downdated after each step and recomputed when
+        // cancellation has eaten their accuracy (LAPACK dgeqp3's scheme, Drmač & Bujanović 2008).
+        let mut part: Vec<f64> = cols.iter().map(|c| norm(c)).collect();
+        let mut fresh = part.clone();
+        let first_norm = part.iter().copied().fold(0.0, f64::max);
         let mut rank = 0;
         for k in 0..n.min(rows) {
             // Pivot: the remaining column with the largest norm below row k.
-            let (best, best_norm) =
-                (k..n)
-                    .map(|j| (j, norm(&cols[j][k..])))
-                    .fold(
-                        (k, -1.0),
-                        |acc, (j, v)| if v > acc.1 { (j, v) } else { acc },
-                    );
-            if !(best_norm > rank_rtol * first_norm) {
+            let best = (k..n).fold(k, |b, j| if part[j] > part[b] { j } else { b });
+            if !(part[best] > rank_rtol * first_norm) {
                 break;
             }
             cols.swap(k, best);
             perm.swap(k, best);
+            part.swap(k, best);
+            fresh.swap(k, best);
             let t = make_reflector(&mut cols[k][k..]);
             let (done, rest) = cols.split_at_mut(k + 1);
             let v = &done[k][k..];
-            for c in rest.iter_mut() {
+            for (i, c) in rest.iter_mut().enumerate() {
                 apply_reflector(v, t, &mut c[k..]);
+                let j = k + 1 + i;
+                if part[j] > 0.0 {
+                    let ratio = c[k].abs() / part[j];
+                    let left = (1.0 - ratio * ratio).max(0.0);
+                    if left * (part[j] / fresh[j]).powi(2) <= DOWNDATE_TOL {
+                        part[j] = norm(&c[k + 1..]);
+                        fresh[j] = part[j];
+                    } else {
+                        part[j] *= left.sqrt();
+                    }
+                }
             }
             tau.push(t);
             rank += 1;
@@ -123,7 +137,11 @@ pub fn normalise(c: &mut [f64]) -> f64 {
 }
 
 fn norm(v: &[f64]) -> f64 {
-    // Scaled sum of squares: basis columns span many decades and must not overflow.
+    let plain = v.iter().map(|x| x * x).sum::<f64>().sqrt();
+    if plain.is_finite() && plain > 1e-150 {
+        return plain;
+    }
+    // Scaled sum of squares when the plain one over- or underflows.
     let big = v.iter().fold(0.0f64, |m, x| m.max(x.abs()));
     if big == 0.0 || !big.is_finite() {
         return big;
