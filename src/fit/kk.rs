@@ -33,6 +33,7 @@
 
 use super::lstsq::{normalise, PivotedQr};
 use super::report::KkReport;
+use super::synthetic::log_freqs;
 use super::FitError;
 use crate::error::Diagnostic;
 use crate::C64;
@@ -310,15 +311,6 @@ fn drift(res: &[C64]) -> f64 {
     worst
 }
 
-fn log_spaced(lo: f64, hi: f64, n: usize) -> Vec<f64> {
-    if n == 1 {
-        return vec![(lo * hi).sqrt()];
-    }
-    (0..n)
-        .map(|k| lo * (hi / lo).powf(k as f64 / (n - 1) as f64))
-        .collect()
-}
-
 /// Lin-KK on the raised-M schedule for one basis.
 fn run_basis(data: &Data, basis: KkBasis, m_max: usize) -> Scored {
     let (f_lo, f_hi) = (data.freq_hz[0], data.freq_hz[data.freq_hz.len() - 1]);
@@ -328,7 +320,7 @@ fn run_basis(data: &Data, basis: KkBasis, m_max: usize) -> Scored {
         for &damping in &RESONANCE_DAMPINGS {
             let n_res = ((f_hi / f_lo).log10() * RESONANCE_DENSITY / damping).ceil() as usize + 1;
             funcs.extend(
-                log_spaced(f_lo, f_hi, n_res)
+                log_freqs(n_res, f_lo, f_hi)
                     .into_iter()
                     .map(|f_hz| BasisFn::Resonance { f_hz, damping }),
             );
@@ -336,7 +328,7 @@ fn run_basis(data: &Data, basis: KkBasis, m_max: usize) -> Scored {
     }
     let fixed = FixedBlock::new(&fit_data, funcs);
     let (tau_lo, tau_hi) = (1.0 / (2.0 * PI * f_hi), 1.0 / (2.0 * PI * f_lo));
-    let fit_m = |m: usize| fit_with(&fit_data, &fixed, &log_spaced(tau_lo, tau_hi, m));
+    let fit_m = |m: usize| fit_with(&fit_data, &fixed, &log_freqs(m, tau_lo, tau_hi));
     // Raise M until μ_c drops below the limit; only that fit is evaluated at every point.
     let first = (1..=m_max)
         .map(fit_m)
@@ -484,17 +476,8 @@ pub fn mu_prime_from_loss(freq_hz: &[f64], mu_dd: &[f64]) -> Vec<f64> {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::fit::synthetic::{log_freqs, spectrum, with_noise};
+    use crate::fit::synthetic::{log_freqs, spectrum, with_mu_prime_bump, with_noise};
     use crate::model::{Model, Term};
-
-    /// A Gaussian bump (in log f) added to μ′ alone: it has no μ″ counterpart, so it violates
-    /// Kramers–Kronig by construction.
-    fn with_mu_prime_bump(f: &[f64], mu: &[C64], rel: f64, f0: f64) -> Vec<C64> {
-        f.iter()
-            .zip(mu)
-            .map(|(&x, m)| m + rel * m.norm() * (-0.5 * ((x / f0).log10() / 0.2).powi(2)).exp())
-            .collect()
-    }
 
     #[test]
     fn causal_relaxation_spectra_pass_with_the_relaxation_basis() {
@@ -551,7 +534,7 @@ mod tests {
             },
         ] {
             let noisy = with_noise(&spectrum(&m, &f), 0.002, 11);
-            let out = lin_kk(&f, &with_mu_prime_bump(&f, &noisy, 0.05, 1e7)).unwrap();
+            let out = lin_kk(&f, &with_mu_prime_bump(&f, &noisy, 0.05, 1e7, 0.2)).unwrap();
             assert!(!out.report.pass, "{}: {:?}", m.spec(), out.report);
             assert!(out.report.drift_max > KK_RESIDUAL_LIMIT, "{:?}", out.report);
         }

@@ -3,6 +3,7 @@
 //! ferrite's static permeability and loss-peak frequency obey Snoek's product
 //! (μ_s − 1)·f_r ≈ (2/3)·(γ/2π)·J_s.
 
+use super::synthetic::log_freqs;
 use crate::model::Model;
 use crate::C64;
 
@@ -50,7 +51,7 @@ pub struct SnoekCheck {
 /// the largest μ″ searched a decade beyond `band` on either side.
 pub fn snoek(model: &Model, band: (f64, f64), js: SaturationPolarisation) -> SnoekCheck {
     let mu_s = model.mu_inf + model.terms.iter().map(|t| t.delta_mu).sum::<f64>();
-    let grid = log_grid(band.0 / 10.0, band.1 * 10.0);
+    let grid = log_freqs(MODEL_GRID_POINTS, band.0 / 10.0, band.1 * 10.0);
     let f_peak_hz = grid
         .iter()
         .copied()
@@ -73,12 +74,6 @@ pub fn snoek(model: &Model, band: (f64, f64), js: SaturationPolarisation) -> Sno
         limit_hz: snoek_limit_hz(js_tesla),
         js_tesla,
     }
-}
-
-fn log_grid(lo: f64, hi: f64) -> Vec<f64> {
-    (0..MODEL_GRID_POINTS)
-        .map(|k| lo * (hi / lo).powf(k as f64 / (MODEL_GRID_POINTS - 1) as f64))
-        .collect()
 }
 
 /// All sanity warnings for measured `mu` (μ′ − jμ″ at `freq_hz`) and the fitted `model`.
@@ -116,7 +111,7 @@ fn negative_measured_loss(freq_hz: &[f64], mu: &[C64]) -> Option<String> {
 }
 
 fn negative_model_loss(model: &Model, band: (f64, f64)) -> Option<String> {
-    let grid = log_grid(band.0, band.1);
+    let grid = log_freqs(MODEL_GRID_POINTS, band.0, band.1);
     let worst = grid
         .iter()
         .map(|&f| (f, -model.mu(f).im))

@@ -410,12 +410,7 @@ pub fn is_new(out: &[Model], m: &Model) -> bool {
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    fn log_freqs(n: usize, lo: f64, hi: f64) -> Vec<f64> {
-        (0..n)
-            .map(|i| lo * (hi / lo).powf(i as f64 / (n - 1) as f64))
-            .collect()
-    }
+    use crate::fit::synthetic::log_freqs;
 
     /// Debye: μ″ peak Δμ/2 at x = 1 (PHYSICS.md §4), half height at x = 2 ± √3, i.e.
     /// log10(2 + √3) = 0.572 decades either side [D].

@@ -33,6 +33,25 @@ pub fn with_noise(mu: &[C64], rel: f64, seed: u64) -> Vec<C64> {
         .collect()
 }
 
+/// `mu` with a Gaussian bump (in log f, centred on `f0_hz`, `width_dec` decades wide) added to
+/// μ′ alone, `rel`·|μ| high: a feature with no μ″ counterpart, so it violates Kramers–Kronig
+/// by construction (the artefact the Lin-KK check must catch).
+pub fn with_mu_prime_bump(
+    freq_hz: &[f64],
+    mu: &[C64],
+    rel: f64,
+    f0_hz: f64,
+    width_dec: f64,
+) -> Vec<C64> {
+    freq_hz
+        .iter()
+        .zip(mu)
+        .map(|(&f, m)| {
+            m + rel * m.norm() * (-0.5 * ((f / f0_hz).log10() / width_dec).powi(2)).exp()
+        })
+        .collect()
+}
+
 /// One sweep of a synthetic lot.
 #[derive(Debug, Clone)]
 pub struct SyntheticSweep {
