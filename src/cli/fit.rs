@@ -587,16 +587,26 @@ fn candidates_text(a: &Analysis) -> String {
     if a.candidates.is_empty() {
         return String::new();
     }
-    let mut ok: Vec<(&str, f64)> = a
+    let mut ok: Vec<(&str, f64, bool)> = a
         .candidates
         .iter()
-        .filter_map(|c| c.bic.as_ref().ok().map(|b| (c.spec.as_str(), *b)))
+        .filter_map(|c| {
+            c.bic
+                .as_ref()
+                .ok()
+                .map(|b| (c.spec.as_str(), *b, c.determined))
+        })
         .collect();
     ok.sort_by(|x, y| x.1.total_cmp(&y.1));
-    let best = ok.first().map_or(0.0, |b| b.1);
-    let mut out = String::from("candidates (ΔBIC to the best):\n");
-    for (spec, bic) in ok {
-        out += &format!("  {:<36} {:>10.1}\n", spec, bic - best);
+    let chosen = a.report.stats.bic;
+    let mut out = String::from("candidates (BIC relative to the chosen model; * = some parameter not determined, not eligible):\n");
+    for (spec, bic, determined) in ok {
+        out += &format!(
+            "  {:<36} {:>10.1}{}\n",
+            spec,
+            bic - chosen,
+            if determined { "" } else { " *" }
+        );
     }
     for c in a.candidates.iter().filter(|c| c.bic.is_err()) {
         out += &format!(

@@ -34,6 +34,9 @@ use rayon::prelude::*;
 const PINNED_SLOPE: f64 = 1e-4;
 /// A term whose f_r lies this many decades outside the fitted band is reported as poorly determined.
 const OUTSIDE_BAND_DECADES: f64 = 1.0;
+/// ΔBIC above which the evidence for the lower-BIC model counts as very strong [S: Kass &
+/// Raftery, J. Am. Stat. Assoc. 90, 773 (1995), §3.2: 2–6 positive, 6–10 strong, > 10 very strong].
+pub const BIC_VERY_STRONG: f64 = 10.0;
 /// Starts read from the spectrum's features, and from the separable grid screen (plus the one
 /// greedy build-up start).
 const FEATURE_STARTS: usize = 3;
@@ -401,6 +404,19 @@ fn finish(
                 .to_string(),
         ),
     }
+    let vague: Vec<String> = (0..flat.len())
+        .filter_map(|k| {
+            stderr[k]
+                .filter(|sd| *sd > flat[k].abs())
+                .map(|sd| format!("{} = {:.4e} ± {:.2e}", labels[k], flat[k], sd))
+        })
+        .collect();
+    if !vague.is_empty() {
+        warnings.push(format!(
+            "not determined by the data (standard error larger than the value): {}; a simpler model may describe the data as well",
+            vague.join(", ")
+        ));
+    }
     let (f_lo, f_hi) = (
         problem.freq_hz()[0],
         problem.freq_hz()[problem.freq_hz().len() - 1],
@@ -443,6 +459,8 @@ pub struct Candidate {
     pub spec: String,
     /// BIC of its best fit, or why it could not be fitted.
     pub bic: Result<f64, String>,
+    /// Every parameter determined ([`all_determined`]): eligible to be chosen.
+    pub determined: bool,
 }
 
 /// The result of `--model auto`.
@@ -471,7 +489,21 @@ pub fn auto_candidates() -> Vec<Vec<TermKind>> {
     c
 }
 
-/// Fit every candidate of [`auto_candidates`] (in parallel) and keep the lowest BIC.
+/// Whether every fitted parameter has a standard error, no larger than its value.
+pub fn all_determined(o: &FitOutcome) -> bool {
+    let flat = o.model.to_params();
+    (0..flat.len())
+        .filter(|&k| k > 0 || o.free_mu_inf)
+        .all(|k| o.stderr[k].is_some_and(|sd| sd <= flat[k].abs()))
+}
+
+/// Fit every candidate of [`auto_candidates`] (in parallel) and keep the lowest BIC — unless
+/// that candidate has a parameter the data leave undetermined ([`all_determined`]) and a
+/// candidate whose parameters are all determined comes within [`BIC_VERY_STRONG`] of it: then
+/// the determined one is kept. BIC is a large-sample approximation that assumes a well-defined
+/// optimum; a superfluous term (a resonance parked above the band) can edge out a simpler
+/// model by a few units without describing anything more. The runner-up is the best other
+/// candidate, so its ΔBIC is negative when the lowest BIC was passed over this way.
 pub fn fit_auto(freq_hz: &[f64], mu: &[C64], opts: &FitOptions) -> Result<AutoOutcome, FitError> {
     let results: Vec<(Vec<TermKind>, Result<FitOutcome, FitError>)> = auto_candidates()
         .into_par_iter()
@@ -485,23 +517,28 @@ pub fn fit_auto(freq_hz: &[f64], mu: &[C64], opts: &FitOptions) -> Result<AutoOu
         .map(|(k, r)| Candidate {
             spec: spec_of(k),
             bic: r.as_ref().map(|o| o.stats.bic).map_err(|e| e.to_string()),
+            determined: r.as_ref().is_ok_and(all_determined),
         })
         .collect();
     let mut ok: Vec<FitOutcome> = results.into_iter().filter_map(|(_, r)| r.ok()).collect();
     ok.sort_by(|a, b| a.stats.bic.total_cmp(&b.stats.bic));
-    let mut it = ok.into_iter();
-    let best = it.next().ok_or_else(|| {
+    let Some(lowest) = ok.first().map(|o| o.stats.bic) else {
         let why = candidates
             .iter()
             .filter_map(|c| c.bic.as_ref().err())
             .next()
             .cloned()
             .unwrap_or_default();
-        FitError(Diagnostic::new(format!(
+        return Err(FitError(Diagnostic::new(format!(
             "no candidate model could be fitted: {why}"
-        )))
-    })?;
-    let runner_up = it.next().map(|r| RunnerUp {
+        ))));
+    };
+    let pick = ok
+        .iter()
+        .position(|o| all_determined(o) && o.stats.bic - lowest <= BIC_VERY_STRONG)
+        .unwrap_or(0);
+    let best = ok.remove(pick);
+    let runner_up = ok.first().map(|r| RunnerUp {
         model: r.model.spec(),
         delta_bic: r.stats.bic - best.stats.bic,
     });

@@ -7,6 +7,8 @@ use std::fmt::Write;
 
 /// Correlations at or above this magnitude are called out (issue: fitting engine, item 3).
 pub const STRONG_CORRELATION: f64 = 0.9;
+/// Strong pairs listed in the text, strongest first; the rest are counted.
+const MOST_CORRELATIONS_LISTED: usize = 8;
 
 /// A value with 5 significant figures, plain or in exponent form when very large or small.
 fn num(v: f64) -> String {
@@ -50,10 +52,15 @@ pub fn render(r: &FitReport) -> String {
     let _ = writeln!(w, "fit of {}", r.source);
     let _ = writeln!(w, "model: {}", r.model);
     if let Some(ru) = &r.runner_up {
+        let why = if ru.delta_bic < 0.0 {
+            " (lower BIC, but with parameters the data do not determine)"
+        } else {
+            ""
+        };
         let _ = writeln!(
             w,
-            "  chosen by BIC; runner-up {} with ΔBIC = {:.1}",
-            ru.model, ru.delta_bic
+            "  chosen by BIC; runner-up {} with ΔBIC = {:.1}{}",
+            ru.model, ru.delta_bic, why
         );
     }
     let _ = writeln!(
@@ -99,8 +106,15 @@ pub fn render(r: &FitReport) -> String {
             "strong correlations (|r| ≥ {}): these parameters trade off against each other",
             STRONG_CORRELATION
         );
-        for (a, b, c) in strong {
+        for (a, b, c) in strong.iter().take(MOST_CORRELATIONS_LISTED) {
             let _ = writeln!(w, "  {:<24} ~ {:<24} r = {:+.3}", a, b, c);
+        }
+        if strong.len() > MOST_CORRELATIONS_LISTED {
+            let _ = writeln!(
+                w,
+                "  … and {} more pairs (see the correlation matrix in --json)",
+                strong.len() - MOST_CORRELATIONS_LISTED
+            );
         }
     }
     let s = &r.stats;

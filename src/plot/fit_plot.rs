@@ -71,6 +71,18 @@ fn padded_range(values: impl Iterator<Item = f64>) -> (f64, f64) {
     (lo - pad, hi + pad)
 }
 
+/// The title cut to what fits the figure's width at the caption size, with an ellipsis.
+fn short_title(t: &str) -> String {
+    const MOST_CHARS: usize = 80;
+    if t.chars().count() <= MOST_CHARS {
+        return t.to_string();
+    }
+    t.chars()
+        .take(MOST_CHARS - 1)
+        .chain(std::iter::once('…'))
+        .collect()
+}
+
 /// Engineering label for a frequency tick.
 fn tick_hz(f: f64) -> String {
     let (scale, unit) = match f {
@@ -105,7 +117,7 @@ fn draw<DB: DrawingBackend>(root: &DrawingArea<DB, Shift>, plot: &FitPlot) -> Re
             .copied(),
     );
     let mut chart = ChartBuilder::on(&upper)
-        .caption(plot.title, ("sans-serif", 22))
+        .caption(short_title(plot.title), ("sans-serif", 22))
         .margin(16)
         .x_label_area_size(30)
         .y_label_area_size(70)
