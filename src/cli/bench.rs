@@ -12,10 +12,9 @@
 use super::Failure;
 use crate::fit::analysis::{analyse, FitRequest, ModelChoice};
 use crate::fit::build_report::SourceData;
-use crate::fit::engine::{fit_from_starts, fit_model, FitOptions, FitOutcome};
+use crate::fit::engine::{fit_from_starts, fit_model, starts_for, FitOptions, FitOutcome};
 use crate::fit::problem::MuProblem;
 use crate::fit::sanity::SaturationPolarisation;
-use crate::fit::start;
 use crate::fit::synthetic::{debye_lorentz_lot, SyntheticSweep};
 use crate::model::{Model, TermKind};
 use rayon::prelude::*;
@@ -53,7 +52,7 @@ fn median_ms(mut v: Vec<f64>) -> f64 {
 
 /// The start the engine reads from the data first (the one scipy is given too).
 fn primary_start(s: &SyntheticSweep, opts: &FitOptions) -> Model {
-    start::starts(&s.freq_hz, &s.mu, &KINDS, opts.mu_inf).remove(0)
+    starts_for(&s.freq_hz, &s.mu, &KINDS, opts).remove(0)
 }
 
 fn timed<T>(f: impl FnOnce() -> T) -> (T, f64) {

@@ -127,8 +127,20 @@ pub fn fit_model(
     kinds: &[TermKind],
     opts: &FitOptions,
 ) -> Result<FitOutcome, FitError> {
-    let (fs, ms) = decimate(freq_hz, mu);
-    let mut starts = start::starts(freq_hz, mu, kinds, opts.mu_inf);
+    let starts = starts_for(freq_hz, mu, kinds, opts);
+    fit_from_starts(freq_hz, mu, kinds, &starts, opts)
+}
+
+/// The starts [`fit_model`] runs from, most plausible first: those read from the spectrum's
+/// features, the greedy build-up, then the grid screen's (all read from the thinned data).
+pub fn starts_for(
+    freq_hz: &[f64],
+    mu: &[C64],
+    kinds: &[TermKind],
+    opts: &FitOptions,
+) -> Vec<Model> {
+    let (fs, ms) = thinned(freq_hz, mu, SCREEN_POINTS);
+    let mut starts = start::starts(&fs, &ms, kinds, opts.mu_inf);
     starts.truncate(FEATURE_STARTS);
     let more = greedy_start(&fs, &ms, kinds, opts)
         .into_iter()
@@ -144,7 +156,7 @@ pub fn fit_model(
         start::push_distinct(&mut starts, s);
     }
     starts.truncate(opts.max_starts.max(1));
-    fit_from_starts(freq_hz, mu, kinds, &starts, opts)
+    starts
 }
 
 /// A start built term by term: place the term (of the kinds still to place) that best explains
@@ -216,15 +228,19 @@ fn screen_config(opts: &FitOptions) -> LmConfig {
     }
 }
 
-/// Every k-th point, so that about [`SCREEN_POINTS`] remain (all of them if there are few).
-fn decimate(freq_hz: &[f64], mu: &[C64]) -> (Vec<f64>, Vec<C64>) {
-    let step = freq_hz.len().div_ceil(SCREEN_POINTS).max(1);
-    let keep = |i: &usize| i % step == 0 || *i == freq_hz.len() - 1;
-    let idx: Vec<usize> = (0..freq_hz.len()).filter(keep).collect();
-    (
-        idx.iter().map(|&i| freq_hz[i]).collect(),
-        idx.iter().map(|&i| mu[i]).collect(),
-    )
+/// Every k-th point of a sweep of `n` (and the last), about `most` of them: for work that
+/// needs the shape of a dense sweep, not every point of it.
+pub fn thin_indices(n: usize, most: usize) -> Vec<usize> {
+    let step = n.div_ceil(most.max(1)).max(1);
+    (0..n).filter(|i| i % step == 0 || *i + 1 == n).collect()
+}
+
+/// The data thinned to about `most` points (all of them if there are fewer).
+pub fn thinned(freq_hz: &[f64], mu: &[C64], most: usize) -> (Vec<f64>, Vec<C64>) {
+    thin_indices(freq_hz.len(), most)
+        .into_iter()
+        .map(|i| (freq_hz[i], mu[i]))
+        .unzip()
 }
 
 /// Fit from given start models (all of `kinds`); the best optimum. With several starts, each is
@@ -249,7 +265,7 @@ pub fn fit_from_starts(
         opts.free_mu_inf,
         opts.mu_inf,
     )?;
-    let (fs, ms) = decimate(freq_hz, mu);
+    let (fs, ms) = thinned(freq_hz, mu, SCREEN_POINTS);
     // Screen on the decimated data when it is smaller; otherwise every start is polished.
     let mut polish: Vec<(usize, Model)> = starts.iter().cloned().enumerate().collect();
     if starts.len() > 1 && fs.len() < freq_hz.len() {

@@ -31,6 +31,7 @@
 //! [`mu_prime_from_loss`] is the direct discrete transform μ″ → μ′ − μ∞ on a log grid, for
 //! checking a loss curve against its real part without any basis.
 
+use super::engine::thin_indices;
 use super::lstsq::{normalise, PivotedQr};
 use super::report::KkReport;
 use super::synthetic::log_freqs;
@@ -130,9 +131,7 @@ impl Data {
     /// Every k-th point (and the last), about `most` of them: the linear fit needs far fewer
     /// points than a dense sweep has, while the residuals are still judged at every point.
     fn thinned(&self, most: usize) -> Data {
-        let n = self.freq_hz.len();
-        let step = n.div_ceil(most.max(1)).max(1);
-        let idx: Vec<usize> = (0..n).filter(|i| i % step == 0 || *i == n - 1).collect();
+        let idx = thin_indices(self.freq_hz.len(), most);
         Data {
             freq_hz: idx.iter().map(|&i| self.freq_hz[i]).collect(),
             mu: idx.iter().map(|&i| self.mu[i]).collect(),

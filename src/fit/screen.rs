@@ -6,6 +6,7 @@
 //! become starts. This finds the basins the feature-based starts can miss (a small resonance in
 //! the tail of a large relaxation, overlapping peaks).
 
+use super::engine::thinned;
 use crate::model::{Model, Term, TermKind};
 use crate::C64;
 
@@ -104,29 +105,41 @@ fn gram(
     }
 }
 
-/// Solve the small SPD system by Gaussian elimination with partial pivoting; `None` if singular.
-fn solve_small(mut a: Vec<Vec<f64>>, mut b: Vec<f64>) -> Option<Vec<f64>> {
-    let n = b.len();
-    for k in 0..n {
-        let p = (k..n).max_by(|&i, &j| a[i][k].abs().total_cmp(&a[j][k].abs()))?;
-        if !(a[p][k].abs() > 1e-14 * a[k][k].abs().max(1e-300)) {
+/// Most linear unknowns of one screened model (terms and μ∞); larger models are not screened.
+const MAX_UNKNOWNS: usize = 5;
+/// Points the full grid screen compares on: the candidate columns are smooth in log f, and
+/// 100 points over a few decades resolve them.
+const GRID_POINTS: usize = 100;
+/// Most combinations the full grid screen visits (two terms of any kinds fit well within it).
+const MAX_COMBINATIONS: f64 = 50_000.0;
+
+/// Solve the first `n` rows of the small symmetric positive-definite system A·x = b by Cholesky
+/// (Golub & Van Loan §4.2); `None` when a pivot falls below 1e-12 of its diagonal entry, i.e.
+/// the chosen columns are numerically dependent.
+fn solve_small(
+    n: usize,
+    a: &[[f64; MAX_UNKNOWNS]; MAX_UNKNOWNS],
+    b: &[f64; MAX_UNKNOWNS],
+) -> Option<[f64; MAX_UNKNOWNS]> {
+    let mut l = [[0.0; MAX_UNKNOWNS]; MAX_UNKNOWNS];
+    for j in 0..n {
+        let d = a[j][j] - (0..j).map(|k| l[j][k] * l[j][k]).sum::<f64>();
+        if !(d > 1e-12 * a[j][j]) {
             return None;
         }
-        a.swap(k, p);
-        b.swap(k, p);
-        for i in k + 1..n {
-            let m = a[i][k] / a[k][k];
-            for j in k..n {
-                a[i][j] -= m * a[k][j];
-            }
-            b[i] -= m * b[k];
+        l[j][j] = d.sqrt();
+        for i in j + 1..n {
+            l[i][j] = (a[i][j] - (0..j).map(|k| l[i][k] * l[j][k]).sum::<f64>()) / l[j][j];
         }
     }
-    let mut x = vec![0.0; n];
-    for i in (0..n).rev() {
-        x[i] = (b[i] - (i + 1..n).map(|j| a[i][j] * x[j]).sum::<f64>()) / a[i][i];
+    let mut x = [0.0; MAX_UNKNOWNS];
+    for i in 0..n {
+        x[i] = (b[i] - (0..i).map(|k| l[i][k] * x[k]).sum::<f64>()) / l[i][i];
     }
-    x.iter().all(|v| v.is_finite()).then_some(x)
+    for i in (0..n).rev() {
+        x[i] = (x[i] - (i + 1..n).map(|k| l[k][i] * x[k]).sum::<f64>()) / l[i][i];
+    }
+    x[..n].iter().all(|v| v.is_finite()).then_some(x)
 }
 
 /// A screened model and its cost ½Σr² at the linear optimum of its amplitudes.
@@ -149,6 +162,9 @@ fn screen(
     free_mu_inf: bool,
     keep: usize,
 ) -> Vec<Screened> {
+    if term_list.len() + usize::from(free_mu_inf) > MAX_UNKNOWNS {
+        return Vec::new();
+    }
     let mut ranges = Vec::new();
     let mut units: Vec<Term> = Vec::new();
     for l in lists {
@@ -183,25 +199,27 @@ fn screen(
         0,
         &mut vec![0; n],
         &mut |sel: &[usize]| {
-            let mut idx = sel.to_vec();
-            if free_mu_inf {
-                idx.push(constant);
+            let mut idx = [constant; MAX_UNKNOWNS];
+            idx[..n].copy_from_slice(sel);
+            let m = n + usize::from(free_mu_inf);
+            let mut a = [[0.0; MAX_UNKNOWNS]; MAX_UNKNOWNS];
+            let mut b = [0.0; MAX_UNKNOWNS];
+            for i in 0..m {
+                b[i] = gm.h[idx[i]];
+                for j in 0..m {
+                    a[i][j] = gm.g[idx[i]][idx[j]];
+                }
             }
-            let a: Vec<Vec<f64>> = idx
-                .iter()
-                .map(|&i| idx.iter().map(|&j| gm.g[i][j]).collect())
-                .collect();
-            let b: Vec<f64> = idx.iter().map(|&i| gm.h[i]).collect();
-            let Some(x) = solve_small(a, b.clone()) else {
+            let Some(x) = solve_small(m, &a, &b) else {
                 return;
             };
             if x[..n].iter().any(|&v| !(v > 0.0)) {
                 return;
             }
-            let cost = 0.5 * (gm.bb - x.iter().zip(&b).map(|(x, b)| x * b).sum::<f64>());
+            let cost = 0.5 * (gm.bb - (0..m).map(|i| x[i] * b[i]).sum::<f64>());
             if best.len() < keep || cost < best[best.len() - 1].2 {
                 let at = best.partition_point(|s| s.2 <= cost);
-                best.insert(at, (idx, x, cost));
+                best.insert(at, (idx[..m].to_vec(), x[..m].to_vec(), cost));
                 best.truncate(keep);
             }
         },
@@ -253,6 +271,13 @@ pub fn grid_starts(
         .iter()
         .map(|&k| candidates(k, f_lo, f_hi))
         .collect();
+    // The full grid grows as the product of the lists; past a budget the greedy build-up
+    // (engine) and the feature starts take over.
+    let combos: f64 = term_list.iter().map(|&l| lists[l].len() as f64).product();
+    if combos > MAX_COMBINATIONS {
+        return Vec::new();
+    }
+    let (freq_hz, mu) = &thinned(freq_hz, mu, GRID_POINTS);
     let mut out: Vec<Model> = Vec::new();
     for s in screen(
         freq_hz,

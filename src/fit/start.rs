@@ -206,25 +206,38 @@ fn shape_table() -> &'static Vec<Shape> {
 /// Shape closest to the measured half-widths (only the sides that were measured count); with
 /// none measured, a moderate default shape.
 fn best_shape(kind: TermKind, left: Option<f64>, right: Option<f64>) -> Shape {
-    let table = shape_table().iter().filter(|s| s.term.kind == kind);
-    let default = match kind {
-        TermKind::Lorentz => Term::lorentz(1.0, 1.0, 0.5),
-        TermKind::Debye => Term::debye(1.0, 1.0),
-        TermKind::ColeCole => Term::cole_cole(1.0, 1.0, 0.8),
-        TermKind::ColeDavidson => Term::cole_davidson(1.0, 1.0, 0.8),
-        TermKind::HavriliakNegami => Term::havriliak_negami(1.0, 1.0, 0.8, 0.8),
-    };
+    let default = default_shape(kind);
     if left.is_none() && right.is_none() {
-        return shape_of(default);
+        return default;
     }
     let miss = |s: &Shape| {
         left.map_or(0.0, |l| (s.left_dec - l).powi(2))
             + right.map_or(0.0, |r| (s.right_dec - r).powi(2))
     };
-    table
+    shape_table()
+        .iter()
+        .filter(|s| s.term.kind == kind)
         .min_by(|a, b| miss(a).total_cmp(&miss(b)))
         .copied()
-        .unwrap_or_else(|| shape_of(default))
+        .unwrap_or(default)
+}
+
+/// The moderate shape used when a feature's widths were not measured (computed once).
+fn default_shape(kind: TermKind) -> Shape {
+    static DEFAULTS: OnceLock<Vec<Shape>> = OnceLock::new();
+    let all = DEFAULTS.get_or_init(|| {
+        [
+            Term::debye(1.0, 1.0),
+            Term::cole_cole(1.0, 1.0, 0.8),
+            Term::cole_davidson(1.0, 1.0, 0.8),
+            Term::havriliak_negami(1.0, 1.0, 0.8, 0.8),
+            Term::lorentz(1.0, 1.0, 0.5),
+        ]
+        .into_iter()
+        .map(shape_of)
+        .collect()
+    });
+    *all.iter().find(|s| s.term.kind == kind).unwrap_or(&all[0])
 }
 
 /// A term of `kind` whose μ″ peak matches `peak` (widths used only if `use_widths`).
