@@ -191,10 +191,20 @@ fn promote_refuses_and_names_the_failed_rule() {
     let one_sample = fx::fit(&fx::spin_wall(), &[0.0]);
     let mut kk_fail = fx::good_fit();
     kk_fail.kk.pass = false;
+    // A sanity finding blocks; a note on a file (every analyser export with segment
+    // boundaries repeats a frequency) does not.
     let mut warned = fx::good_fit();
-    warned
+    let finding = "measured μ″ is negative beyond the noise at 12 of 80 frequencies".to_string();
+    warned.warnings.push(finding.clone());
+    warned.sanity = Some(vec![finding]);
+    let mut noted = fx::good_fit();
+    noted
         .warnings
-        .push("mu'' < 0 between 250 MHz and 300 MHz".into());
+        .push("sample1-5t.s1p: 1 repeated frequency merged".into());
+    noted.sanity = Some(Vec::new());
+    // A fit file from before the sanity list: every warning counts.
+    let mut older = noted.clone();
+    older.sanity = None;
     // Offsets 0, +4 %, −1.5 % give d = 0, 3.85 %, 1.52 % (|r| = |o|/(1 + o)): the worst pair sums
     // to 5.37 % > 5 % while rms_rel = 1.69 % and max_rel = 3.85 % stay inside their limits.
     // Offsets ±4 %: rms_rel = 2.84 % > 2 % and the pair sums to 8.0 % > 5 %.
@@ -204,17 +214,19 @@ fn promote_refuses_and_names_the_failed_rule() {
     let mut one_core = fx::good_fit();
     one_core.provenance.iter_mut().for_each(|p| p.sample = 0);
     one_core.residuals.iter_mut().for_each(|r| r.sample = 0);
-    let cases: [(&str, &mucurve::fit::report::FitReport, &[&str]); 6] = [
+    let cases: [(&str, &mucurve::fit::report::FitReport, &[&str]); 8] = [
         ("one", &one_sample, &["two-samples", "samples-agree"]),
         ("one-core", &one_core, &["two-samples", "samples-agree"]),
         ("kk", &kk_fail, &["kk-pass"]),
-        ("warned", &warned, &["no-warnings"]),
+        ("warned", &warned, &["sanity"]),
+        ("noted", &noted, &[]),
+        ("older", &older, &["sanity"]),
         ("disagree", &disagree, &["samples-agree"]),
         ("noisy", &noisy, &["residual-rms", "samples-agree"]),
     ];
     let all = [
         "kk-pass",
-        "no-warnings",
+        "sanity",
         "residual-rms",
         "residual-max",
         "two-samples",
@@ -222,19 +234,20 @@ fn promote_refuses_and_names_the_failed_rule() {
     ];
     for (id, report, failing) in cases {
         publish(&s, id, report);
-        let out = run(
-            &s,
-            &[
-                "library",
-                "promote",
-                &format!("{}@1", id),
-                "--by",
-                "Ada",
-                "--why",
-                "review",
-            ],
-        )
-        .failed();
+        let promote = [
+            "library",
+            "promote",
+            &format!("{}@1", id),
+            "--by",
+            "Ada",
+            "--why",
+            "review",
+        ];
+        if failing.is_empty() {
+            run(&s, &promote).ok();
+            continue;
+        }
+        let out = run(&s, &promote).failed();
         for rule in all {
             let named = out.stderr.contains(&format!("rule {} failed", rule));
             assert_eq!(
@@ -246,11 +259,13 @@ fn promote_refuses_and_names_the_failed_rule() {
         }
     }
     let vetted = json(&run(&s, &["library", "list", "--status", "vetted", "--json"]).ok());
-    assert_eq!(
-        vetted.as_array().unwrap().len(),
-        0,
-        "a refused promotion changed a status"
-    );
+    let vetted: Vec<&str> = vetted
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|v| v["material"].as_str().unwrap())
+        .collect();
+    assert_eq!(vetted, ["noted"], "a refused promotion changed a status");
 }
 
 #[test]

@@ -136,6 +136,7 @@ pub fn run(args: Args) -> Result<(), Failure> {
                     mu: s.mu.clone(),
                     provenance: vec![],
                     warnings: vec![],
+                    sanity: vec![],
                 };
                 analyse(std::slice::from_ref(&src), &request)
             })

@@ -418,6 +418,11 @@ fn load_table(path: &Path) -> Result<SourceData, Failure> {
             .iter()
             .map(|s| s.to_string())
             .collect(),
+        sanity: table
+            .meta_values("sanity")
+            .iter()
+            .map(|s| s.to_string())
+            .collect(),
     })
 }
 
@@ -484,6 +489,7 @@ fn load_sweeps(files: &[(PathBuf, f64)], plan: &SweepPlan) -> Result<SourceData,
         mu: idx.iter().map(|&i| s.mu[i]).collect(),
         provenance,
         warnings,
+        sanity: s.sanity.clone(),
     })
 }
 

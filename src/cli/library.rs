@@ -209,7 +209,8 @@ fn show(lib: &Library, r: &VersionRef, json: bool) -> Result<(), Failure> {
         if m.kk.pass { "pass" } else { "FAIL" }
     );
     for w in &m.warnings {
-        println!("warning: {}", w);
+        let blocks = m.sanity.as_ref().is_some_and(|s| s.contains(w));
+        println!("{}: {}", if blocks { "sanity" } else { "warning" }, w);
     }
     for p in &m.provenance {
         println!(

@@ -112,6 +112,7 @@ fn source_data(items: &[Item], g: &Group) -> Option<SourceData> {
         mu: idx.iter().map(|&i| s.mu[i]).collect(),
         provenance,
         warnings: own_warnings(s),
+        sanity: s.sanity.clone(),
     })
 }
 

@@ -135,6 +135,10 @@ pub struct MuSpectrum {
     pub f_sr: Option<f64>,
     pub empty_reference: bool,
     pub warnings: Vec<String>,
+    /// The warnings that make the spectrum unfit to publish as material data (they are in
+    /// `warnings` too): the size effect of an MnZn-like core, whose apparent μ above about
+    /// 1 MHz belongs to this core, not to the material.
+    pub sanity: Vec<String>,
     pub sources: Vec<SourceInfo>,
     /// Corrections the sweeps carried in (fixture subtraction, ...), in words.
     pub corrections: Vec<String>,
@@ -251,6 +255,7 @@ pub fn extract(
         f_sr: resonant.and_then(|r| r.f_sr),
         empty_reference: setup.empty_reference,
         warnings: Vec::new(),
+        sanity: Vec::new(),
         sources: measurements
             .iter()
             .map(|m| m.sweep.source.clone())
@@ -262,6 +267,7 @@ pub fn extract(
         windings: reports,
         gap_estimate: None,
     };
+    spectrum.sanity = size_effect(&spectrum).into_iter().collect();
     spectrum.warnings = warnings(&spectrum, measurements, setup);
     Ok(spectrum)
 }
@@ -475,7 +481,26 @@ fn lead_result(
     })
 }
 
-/// Things the user should know about the result.
+/// The size effect of an MnZn-like core: above about 1 MHz its apparent μ is this core's.
+fn size_effect(s: &MuSpectrum) -> Option<String> {
+    let low_mu = s
+        .valid_indices()
+        .iter()
+        .take(5)
+        .map(|&i| s.mu[i].re)
+        .collect::<Vec<_>>();
+    let mu_low = gap::percentile(&low_mu, 50.0).unwrap_or(0.0);
+    (mu_low >= MNZN_LIKE_MU && s.valid.1 > MNZN_DIMENSIONAL_HZ).then(|| {
+        format!(
+            "μ′ ≈ {:.0} at the bottom of the band looks like MnZn ferrite: above about {} its dimensional resonance and \
+             eddy currents make the apparent μ depend on this core's size, so treat that part as this core's, not the material's",
+            mu_low,
+            hz(MNZN_DIMENSIONAL_HZ)
+        )
+    })
+}
+
+/// Things the user should know about the result (the [`MuSpectrum::sanity`] findings among them).
 fn warnings(s: &MuSpectrum, measurements: &[Measurement], setup: &ExtractSetup) -> Vec<String> {
     let mut out: Vec<String> = Vec::new();
     for m in measurements {
@@ -511,17 +536,7 @@ fn warnings(s: &MuSpectrum, measurements: &[Measurement], setup: &ExtractSetup) 
             ));
         }
     }
-    let low_mu = idx.iter().take(5).map(|&i| s.mu[i].re).collect::<Vec<_>>();
-    if gap::percentile(&low_mu, 50.0).unwrap_or(0.0) >= MNZN_LIKE_MU
-        && s.valid.1 > MNZN_DIMENSIONAL_HZ
-    {
-        out.push(format!(
-            "μ′ ≈ {:.0} at the bottom of the band looks like MnZn ferrite: above about {} its dimensional resonance and \
-             eddy currents make the apparent μ depend on this core's size, so treat that part as this core's, not the material's",
-            gap::percentile(&low_mu, 50.0).unwrap_or(0.0),
-            hz(MNZN_DIMENSIONAL_HZ)
-        ));
-    }
+    out.extend(s.sanity.iter().cloned());
     let negative = idx
         .iter()
         .filter(|&&i| s.mu_double_prime(i) < -0.02 * s.mu[i].norm())

@@ -128,6 +128,11 @@ pub fn metadata(s: &MuSpectrum) -> Vec<(String, String)> {
     for w in &s.warnings {
         put("warning", w.clone());
     }
+    // The warnings that block publishing as material data, repeated so a fit of the table
+    // keeps them as such.
+    for w in &s.sanity {
+        put("sanity", w.clone());
+    }
     m
 }
 

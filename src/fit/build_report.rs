@@ -27,6 +27,9 @@ pub struct SourceData {
     pub provenance: Vec<SourceProvenance>,
     /// Warnings from ingest and extraction, passed through.
     pub warnings: Vec<String>,
+    /// The findings among `warnings` that block publishing as material data (see
+    /// [`FitReport::sanity`]), e.g. the extraction's size effect of an MnZn-like core.
+    pub sanity: Vec<String>,
 }
 
 /// All sources' points merged in ascending frequency (stable, so equal frequencies keep the
@@ -41,7 +44,8 @@ pub fn merged(sources: &[SourceData]) -> (Vec<f64>, Vec<C64>) {
 }
 
 /// Assemble the report. `kk[i]` is the Lin-KK result of `sources[i]`. Warnings come in
-/// pipeline order: earlier stages, the fit, the KK check, the physics sanity.
+/// pipeline order: earlier stages, the fit, the KK check, the physics sanity; the sanity list
+/// holds those of them that block publishing, in the same order.
 pub fn build_report(
     outcome: &FitOutcome,
     sources: &[SourceData],
@@ -85,7 +89,12 @@ pub fn build_report(
         .iter()
         .flat_map(|s| s.warnings.iter().map(move |w| tag(s, w)))
         .collect();
+    let mut findings: Vec<String> = sources
+        .iter()
+        .flat_map(|s| s.sanity.iter().map(move |w| tag(s, w)))
+        .collect();
     warnings.extend(outcome.warnings.iter().cloned());
+    findings.extend(outcome.sanity.iter().cloned());
     warnings.extend(
         sources
             .iter()
@@ -93,7 +102,9 @@ pub fn build_report(
             .filter_map(|(s, k)| kk_warning(k).map(|w| tag(s, &w))),
     );
     let (freq, mu) = merged(sources);
-    warnings.extend(sanity::warnings(&freq, &mu, &outcome.model, js));
+    let physics = sanity::warnings(&freq, &mu, &outcome.model, js);
+    warnings.extend(physics.iter().cloned());
+    findings.extend(physics);
     let residuals = sources
         .iter()
         .enumerate()
@@ -125,14 +136,16 @@ pub fn build_report(
         f_max_hz: freq.last().copied().unwrap_or(0.0),
         kk: worst_kk(kk),
         warnings,
+        sanity: Some(findings),
         runner_up,
         provenance: sources
             .iter()
             .enumerate()
             .flat_map(|(sample, s)| {
-                s.provenance
-                    .iter()
-                    .map(move |p| SourceProvenance { sample, ..p.clone() })
+                s.provenance.iter().map(move |p| SourceProvenance {
+                    sample,
+                    ..p.clone()
+                })
             })
             .collect(),
         residuals,

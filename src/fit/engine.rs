@@ -98,6 +98,10 @@ pub struct FitOutcome {
     pub best_start: usize,
     /// Fit-specific warnings (not converged, bound reached, poorly determined parameters).
     pub warnings: Vec<String>,
+    /// The findings among `warnings` that block publishing the model as material data:
+    /// parameters the data do not determine (their standard errors and correlations, and the
+    /// term they belong to, would describe nothing).
+    pub sanity: Vec<String>,
 }
 
 impl FitOutcome {
@@ -397,6 +401,7 @@ fn finish(
             ));
         }
     }
+    let mut sanity = Vec::new();
     let mut stderr = vec![None; flat.len()];
     let (mut corr_labels, mut corr, mut cov_out) = (Vec::new(), Vec::new(), Vec::new());
     match external_covariance(problem, &out) {
@@ -414,7 +419,7 @@ fn finish(
                 cov_out.push((0..keep.len()).map(|b| cov[[a, b]]).collect());
             }
         }
-        None => warnings.push(
+        None => sanity.push(
             "the covariance is singular: some parameters are not determined by the data (a term may be superfluous); \
              no standard errors are given"
                 .to_string(),
@@ -428,11 +433,12 @@ fn finish(
         })
         .collect();
     if !vague.is_empty() {
-        warnings.push(format!(
+        sanity.push(format!(
             "not determined by the data (standard error larger than the value): {}; a simpler model may describe the data as well",
             vague.join(", ")
         ));
     }
+    warnings.extend(sanity.iter().cloned());
     let (f_lo, f_hi) = (
         problem.freq_hz()[0],
         problem.freq_hz()[problem.freq_hz().len() - 1],
@@ -466,6 +472,7 @@ fn finish(
         starts_tried,
         best_start,
         warnings,
+        sanity,
     }
 }
 

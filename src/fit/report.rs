@@ -97,7 +97,17 @@ pub struct FitReport {
     pub f_min_hz: f64,
     pub f_max_hz: f64,
     pub kk: KkReport,
+    /// Everything the stages had to say, for people to read: notes on the files (a merged
+    /// repeated frequency, noise outside the valid band), corrections, the fit, the KK check and
+    /// the [`FitReport::sanity`] findings.
     pub warnings: Vec<String>,
+    /// The findings among `warnings` that make the fit unfit to publish as material data: the
+    /// physics sanity of the spectrum and the model (μ″ < 0 beyond the noise, Snoek's limit
+    /// exceeded), a size effect of the core the extraction recognised, and parameters the data
+    /// do not determine. The library's vetting refuses a version with any of them. `None` in a
+    /// fit file written before the list existed.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub sanity: Option<Vec<String>>,
     /// Runner-up model and ΔBIC when the model was chosen automatically.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub runner_up: Option<RunnerUp>,

@@ -52,6 +52,14 @@ pub fn summary_frame(reports: &[FitReport]) -> Result<DataFrame, FitError> {
                 .map(|r| r.warnings.len() as u64)
                 .collect::<Vec<_>>(),
         ),
+        // Findings that block vetting; null for a report written before the list existed.
+        Column::new(
+            "sanity".into(),
+            reports
+                .iter()
+                .map(|r| r.sanity.as_ref().map(|s| s.len() as u64))
+                .collect::<Vec<_>>(),
+        ),
         num("mu_inf", &|r| Some(r.mu_inf.value)),
         num("mu_inf_stderr", &|r| r.mu_inf.stderr),
     ];
@@ -163,6 +171,7 @@ mod tests {
                 basis: "debye".into(),
             },
             warnings: vec![],
+            sanity: None,
             runner_up: None,
             provenance: vec![],
             residuals: vec![],
@@ -182,6 +191,8 @@ mod tests {
         assert_eq!(kind2.null_count(), 1);
         assert_eq!(df.column("term1_alpha").unwrap().null_count(), 1);
         assert_eq!(df.column("mu_inf_stderr").unwrap().null_count(), 2);
+        // Neither test report carries a sanity list: the count is unknown, not zero.
+        assert_eq!(df.column("sanity").unwrap().null_count(), 2);
     }
 
     #[test]

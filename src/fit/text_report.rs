@@ -144,10 +144,18 @@ pub fn render(r: &FitReport) -> String {
         100.0 * k.drift_max
     );
     if !r.warnings.is_empty() {
+        let blocking = |m: &String| r.sanity.as_ref().is_some_and(|s| s.contains(m));
         let _ = writeln!(w);
-        let _ = writeln!(w, "warnings:");
+        if r.warnings.iter().any(blocking) {
+            let _ = writeln!(
+                w,
+                "warnings (! = sanity finding: the library will not vet this fit):"
+            );
+        } else {
+            let _ = writeln!(w, "warnings:");
+        }
         for m in &r.warnings {
-            let _ = writeln!(w, "  - {}", m);
+            let _ = writeln!(w, "  {} {}", if blocking(m) { "!" } else { "-" }, m);
         }
     }
     out
@@ -215,7 +223,8 @@ mod tests {
                 drift_max: 0.015,
                 basis: "debye".into(),
             },
-            warnings: vec!["something to know".into()],
+            warnings: vec!["something to know".into(), "Snoek product exceeds".into()],
+            sanity: Some(vec!["Snoek product exceeds".into()]),
             runner_up: None,
             provenance: Vec::new(),
             residuals: Vec::new(),
@@ -235,7 +244,12 @@ mod tests {
         );
         assert!(t.contains("mu_inf") && t.contains("(held fixed)"), "{t}");
         assert!(t.contains("r = -0.950"), "{t}");
-        assert!(t.contains("FAIL") && t.contains("something to know"), "{t}");
+        assert!(
+            t.contains("FAIL") && t.contains("  - something to know"),
+            "{t}"
+        );
+        // A sanity finding is marked as one; a plain note is not.
+        assert!(t.contains("  ! Snoek product exceeds"), "{t}");
         assert!(
             t.lines().position(|l| l.contains("delta_mu"))
                 < t.lines().position(|l| l.contains("f_hz"))

@@ -57,8 +57,12 @@ pub struct Material {
     pub band: Band,
     pub stats: FitStats,
     pub kk: KkReport,
-    /// Sanity and fit warnings, as the fit reported them (empty when clean).
+    /// Every warning of the fit, as it reported them (empty when clean).
     pub warnings: Vec<String>,
+    /// The findings among `warnings` that block vetting (see [`FitReport::sanity`]); absent
+    /// from files published before the list existed.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub sanity: Option<Vec<String>>,
     pub runner_up: Option<RunnerUp>,
     pub provenance: Vec<SourceProvenance>,
     pub residuals: Vec<ResidualPoint>,
@@ -96,6 +100,7 @@ impl Material {
             stats: fit.stats.clone(),
             kk: fit.kk.clone(),
             warnings: fit.warnings.clone(),
+            sanity: fit.sanity.clone(),
             runner_up: fit.runner_up.clone(),
             provenance: fit.provenance.clone(),
             residuals: fit.residuals.clone(),
@@ -165,9 +170,9 @@ impl Material {
     }
 }
 
-/// The committed example material file (written by `mucurve publish`; its `sample` indices and
-/// self-hash were added afterwards with tests/reference/material_schema_cases.py's canonical
-/// form), shared by unit tests.
+/// The committed example material file (written by `mucurve publish`; its `sample` indices, its
+/// empty `sanity` list and its self-hash were added afterwards with
+/// tests/reference/material_schema_cases.py's canonical form), shared by unit tests.
 #[cfg(test)]
 pub(crate) const EXAMPLE_TEXT: &str = include_str!("../../tests/reference/material_example.json");
 

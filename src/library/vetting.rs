@@ -1,7 +1,13 @@
 //! The rules a version must meet before it can be promoted to vetted.
 //!
 //! 1. `kk-pass` — the measured spectrum passed the Lin-KK check (PHYSICS.md §5).
-//! 2. `no-warnings` — the fit carries no sanity or fit warnings (μ″ ≥ 0, Snoek product, ...).
+//! 2. `sanity` — no sanity findings: the fit's `sanity` list is empty. It holds the warnings
+//!    that make a fit unfit to publish as material data — μ″ < 0 beyond the noise in the data
+//!    or anywhere in the model, Snoek's limit exceeded, the size effect of an MnZn-like core,
+//!    parameters the data do not determine. Notes on the files and corrections (a merged
+//!    repeated frequency, |S11| > 1 outside the band, a large lead inductance) stay in
+//!    `warnings` for the reader and do not block. A file written before the list existed has
+//!    no `sanity` field; for it every warning counts, as it did then.
 //! 3. `residual-rms` — rms relative residual ≤ 2 % ([`RMS_REL_MAX`]).
 //! 4. `residual-max` — largest relative residual ≤ 10 % ([`MAX_REL_MAX`]).
 //! 5. `two-samples` — at least two physical samples ([`MIN_SAMPLES`]), and no file listed under
@@ -67,15 +73,7 @@ pub fn evaluate(m: &Material) -> Vec<RuleOutcome> {
                 m.kk.m
             ),
         ),
-        outcome(
-            "no-warnings",
-            m.warnings.is_empty(),
-            if m.warnings.is_empty() {
-                "no warnings".into()
-            } else {
-                m.warnings.join("; ")
-            },
-        ),
+        sanity(m),
         outcome(
             "residual-rms",
             m.stats.rms_rel <= RMS_REL_MAX,
@@ -97,6 +95,22 @@ pub fn evaluate(m: &Material) -> Vec<RuleOutcome> {
         two_samples(m),
         samples_agree(m),
     ]
+}
+
+fn sanity(m: &Material) -> RuleOutcome {
+    let (findings, older) = match &m.sanity {
+        Some(list) => (list, ""),
+        None => (
+            &m.warnings,
+            "the file predates the sanity list, so every warning counts: ",
+        ),
+    };
+    let detail = if findings.is_empty() {
+        "no sanity findings".to_string()
+    } else {
+        format!("{}{}", older, findings.join("; "))
+    };
+    outcome("sanity", findings.is_empty(), detail)
 }
 
 /// Only the rules that failed.
@@ -269,8 +283,11 @@ mod tests {
         m.kk.pass = false;
         assert_eq!(failed(&m), ["kk-pass"]);
         let mut m = base.clone();
-        m.warnings.push("Snoek product above the limit".into());
-        assert_eq!(failed(&m), ["no-warnings"]);
+        let snoek = "Snoek product above the limit".to_string();
+        m.warnings.push(snoek.clone());
+        m.sanity.get_or_insert_with(Vec::new).push(snoek);
+        assert_eq!(failed(&m), ["sanity"]);
+        assert_says(&m, "sanity", &["Snoek product above the limit"]);
         let mut m = base.clone();
         m.stats.rms_rel = RMS_REL_MAX;
         m.stats.max_rel = MAX_REL_MAX;
@@ -287,6 +304,27 @@ mod tests {
             "two-samples",
             &["listed under samples 0 and 1", "1 distinct file(s)"],
         );
+    }
+
+    /// Notes on the files (a merged repeated frequency, as every analyser export with segment
+    /// boundaries has) do not block; a file without the sanity list counts every warning.
+    #[test]
+    fn only_sanity_findings_block_unless_the_file_predates_them() {
+        let mut m = example_material();
+        assert_eq!(m.sanity, Some(Vec::new()));
+        m.warnings
+            .push("ring1-5t.s1p: 1 repeated frequency merged".into());
+        assert!(failed(&m).is_empty(), "{:?}", failures(&m));
+        assert_eq!(detail(&m, "sanity"), "no sanity findings");
+        m.sanity = None;
+        assert_eq!(failed(&m), ["sanity"]);
+        assert_says(
+            &m,
+            "sanity",
+            &["predates the sanity list", "1 repeated frequency merged"],
+        );
+        m.warnings.clear();
+        assert!(failed(&m).is_empty());
     }
 
     /// Provenance entries are not samples: a 1- and a 2-turn winding on one core (lead

@@ -1,7 +1,7 @@
 """Reference verdicts for the material file format, from Python's `jsonschema` (PyPI).
 
 Validates the committed example material file (material_example.json, written by
-`mucurve publish`, sample indices added by hand and resealed with self_hash below) and a set of single-change variants of it against
+`mucurve publish`, sample indices and the empty sanity list added by hand and resealed with self_hash below) and a set of single-change variants of it against
 src/library/material.schema.json with jsonschema's Draft 2020-12 validator, and recomputes the
 example's self-hash with hashlib over Python's own canonical JSON (keys sorted, no whitespace).
 Writes material_schema_cases.json; the Rust tests compare the crate's schema validator with
@@ -117,6 +117,10 @@ def main():
         "provenance sha256 not hex": set_path(["provenance", 0, "sha256"], "z" * 64),
         "residual frequency negative": set_path(["residuals", 0, "freq_hz"], -1.0),
         "warnings with a number": set_path(["warnings"], [1]),
+        "sanity findings given": set_path(["sanity"], ["Snoek product exceeds the limit"]),
+        "sanity with a number": set_path(["sanity"], [1]),
+        "sanity null": set_path(["sanity"], None),
+        "without sanity (older file)": delete(["sanity"]),
         "runner_up without delta_bic": set_path(["runner_up"], {"model": "debye"}),
         "fit_file extra field": set_path(["fit_file", "size"], 3),
         "correlation labels given": set_path(["model", "correlation_params"], ["mu_inf", "debye#1.delta_mu"]),
