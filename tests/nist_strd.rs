@@ -14,7 +14,7 @@
 //!    committed reference tests/reference/scipy_lm.json, written by tests/reference/scipy_lm.py.
 
 use argmin::core::{Error, Jacobian, Operator};
-use mucurve::fit::lm::{covariance, minimize, LmConfig};
+use mucurve::fit::lm::{covariance, minimize, LeastSquares, LmConfig};
 use mucurve::fit::problem::MuProblem;
 use mucurve::model::{parse_spec, Model};
 use mucurve::C64;
@@ -38,6 +38,9 @@ struct Nist {
     certified: &'static [f64],
     certified_sd: &'static [f64],
     certified_rss: f64,
+    /// NIST starts (1 or 2) from which plain LM, without geodesic acceleration, is known to
+    /// miss the certified minimum.
+    plain_fails: &'static [usize],
 }
 
 impl Operator for &Nist {
@@ -67,6 +70,9 @@ impl Jacobian for &Nist {
     }
 }
 
+/// Small problems evaluate through argmin's `apply` and `jacobian` (the provided methods).
+impl LeastSquares for &Nist {}
+
 /// The NIST solver settings: tighter than the library default so the minimum is located to
 /// well inside the 6-digit target (MINPACK-style tests at a few ulps, as other StRD reports use).
 fn nist_config() -> LmConfig {
@@ -83,24 +89,34 @@ fn rel(a: f64, b: f64) -> f64 {
     (a - b).abs() / b.abs()
 }
 
-/// Both NIST starts with the default solver (geodesic acceleration on), and the easier start 2
-/// once more with plain Levenberg–Marquardt, against certified parameters, RSS and standard
-/// deviations (the latter through [`covariance`]).
+/// Both NIST starts with geodesic acceleration and with plain Levenberg–Marquardt (the library
+/// default), against certified parameters, RSS and standard deviations (the latter through
+/// [`covariance`]). Plain LM is not run from a start listed in `plain_fails`.
 fn check_nist(p: &Nist) {
+    let geodesic = LmConfig {
+        geodesic: true,
+        ..nist_config()
+    };
     let plain = LmConfig {
         geodesic: false,
         ..nist_config()
     };
     let runs = [
-        (1, p.starts[0], nist_config()),
-        (2, p.starts[1], nist_config()),
+        (1, p.starts[0], geodesic.clone()),
+        (2, p.starts[1], geodesic),
+        (1, p.starts[0], plain.clone()),
         (2, p.starts[1], plain),
     ];
-    for (s, start, cfg) in runs {
+    let skipped = |s: usize, cfg: &LmConfig| !cfg.geodesic && p.plain_fails.contains(&s);
+    for (s, start, cfg) in runs.into_iter().filter(|(s, _, cfg)| !skipped(*s, cfg)) {
         let what = format!(
             "{} start {s}{}",
             p.name,
-            if cfg.geodesic { "" } else { " (plain LM)" }
+            if cfg.geodesic {
+                " (geodesic)"
+            } else {
+                " (plain LM)"
+            }
         );
         let out = minimize(p, Array1::from(start.to_vec()), &cfg)
             .unwrap_or_else(|e| panic!("{what}: {e}"));
@@ -165,6 +181,7 @@ fn nist_misra1a_both_starts_reach_certified_values() {
         certified: &[2.3894212918E+02, 5.5015643181E-04],
         certified_sd: &[2.7070075241E+00, 7.2668688436E-06],
         certified_rss: 1.2455138894E-01,
+        plain_fails: &[],
     });
 }
 
@@ -187,6 +204,9 @@ fn nist_boxbod_both_starts_reach_certified_values() {
         certified: &[2.1380940889E+02, 5.4723748542E-01],
         certified_sd: &[1.2354515176E+01, 1.0455993237E-01],
         certified_rss: 1.1680088766E+03,
+        // Plain LM walks from start 1 (b2 = 1) into the plateau b2 → ∞ where the model is a
+        // constant; geodesic acceleration rejects that leap.
+        plain_fails: &[1],
     });
 }
 
@@ -253,6 +273,7 @@ fn nist_thurber_both_starts_reach_certified_values() {
             6.5842344623E-03,
         ],
         certified_rss: 5.6427082397E+03,
+        plain_fails: &[],
     });
 }
 
@@ -301,6 +322,7 @@ fn nist_mgh09_both_starts_reach_certified_values() {
             9.0025542308E-02,
         ],
         certified_rss: 3.0750560385E-04,
+        plain_fails: &[],
     });
 }
 
@@ -344,6 +366,7 @@ fn nist_eckerle4_both_starts_reach_certified_values() {
         certified: &[1.5543827178E+00, 4.0888321754E+00, 4.5154121844E+02],
         certified_sd: &[1.5408051163E-02, 4.6803020753E-02, 4.6800518816E-02],
         certified_rss: 1.4635887487E-03,
+        plain_fails: &[],
     });
 }
 
@@ -392,6 +415,7 @@ fn nist_rat43_both_starts_reach_certified_values() {
             6.8761936385E-01,
         ],
         certified_rss: 8.7864049080E+03,
+        plain_fails: &[],
     });
 }
 

@@ -103,9 +103,37 @@ impl Cholesky {
     }
 }
 
-/// JᵀJ for a Jacobian with one row per residual.
+/// JᵀJ for a Jacobian with one row per residual. A column-major Jacobian (long contiguous
+/// columns, the layout [`crate::fit::problem::MuProblem`] returns) is reduced by contiguous
+/// column dot products over the lower triangle, which vectorise; any other layout by matrix
+/// product.
 pub fn gram(j: &Array2<f64>) -> Array2<f64> {
-    j.t().dot(j)
+    if !j.t().is_standard_layout() {
+        return j.t().dot(j);
+    }
+    let n = j.ncols();
+    let mut g = Array2::zeros((n, n));
+    for a in 0..n {
+        for b in 0..=a {
+            let v = j.column(a).dot(&j.column(b));
+            g[[a, b]] = v;
+            g[[b, a]] = v;
+        }
+    }
+    g
+}
+
+/// out += α·J·v. A column-major J is added column by column (contiguous axpy updates);
+/// ndarray's own product would walk it row by row, short strided rows that cost far more
+/// than the arithmetic.
+pub fn add_jac_times(out: &mut Array1<f64>, alpha: f64, j: &Array2<f64>, v: &Array1<f64>) {
+    if j.t().is_standard_layout() {
+        for (col, &vc) in j.columns().into_iter().zip(v) {
+            out.scaled_add(alpha * vc, &col);
+        }
+    } else {
+        out.scaled_add(alpha, &j.dot(v));
+    }
 }
 
 #[cfg(test)]
@@ -146,6 +174,25 @@ mod tests {
         let b2 = array![2.0 * s, 1.0];
         let x2 = Cholesky::factor(&a2).unwrap().solve(&b2);
         assert!((x2[0] * s - 0.5).abs() < 1e-14 && x2[1].abs() < 1e-14);
+    }
+
+    /// JᵀJ and J·v of a small matrix worked by hand, in both memory orders (the column-major
+    /// order takes the column-by-column paths).
+    #[test]
+    fn gram_and_jacobian_product_match_hand_values_in_both_orders() {
+        use ndarray::ShapeBuilder;
+        let rows = array![[1.0, 2.0], [3.0, 4.0], [5.0, 6.0]];
+        let mut cols = Array2::zeros((3, 2).f());
+        cols.assign(&rows);
+        assert!(!cols.is_standard_layout());
+        // JᵀJ = [[1+9+25, 2+12+30], [., 4+16+36]]; J·(1, −1) = (−1, −1, −1).
+        let want = array![[35.0, 44.0], [44.0, 56.0]];
+        for j in [&rows, &cols] {
+            assert_eq!(gram(j), want);
+            let mut out = array![10.0, 20.0, 30.0];
+            add_jac_times(&mut out, 2.0, j, &array![1.0, -1.0]);
+            assert_eq!(out, array![8.0, 18.0, 28.0]);
+        }
     }
 
     #[test]
