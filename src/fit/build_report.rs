@@ -101,8 +101,12 @@ pub fn build_report(
             .zip(kk)
             .filter_map(|(s, k)| kk_warning(k).map(|w| tag(s, &w))),
     );
-    let (freq, mu) = merged(sources);
-    let physics = sanity::warnings(&freq, &mu, &outcome.model, js);
+    let spectra: Vec<sanity::Spectrum> = sources
+        .iter()
+        .map(|s| (s.freq_hz.as_slice(), s.mu.as_slice()))
+        .collect();
+    let physics = sanity::warnings(&spectra, &outcome.model, js);
+    let (f_min_hz, f_max_hz) = sanity::band(&spectra).unwrap_or((0.0, 0.0));
     warnings.extend(physics.iter().cloned());
     findings.extend(physics);
     let residuals = sources
@@ -132,8 +136,8 @@ pub fn build_report(
         correlation: outcome.correlation.clone(),
         correlation_params: outcome.correlation_labels.clone(),
         stats: outcome.stats.clone(),
-        f_min_hz: freq.first().copied().unwrap_or(0.0),
-        f_max_hz: freq.last().copied().unwrap_or(0.0),
+        f_min_hz,
+        f_max_hz,
         kk: worst_kk(kk),
         warnings,
         sanity: Some(findings),
