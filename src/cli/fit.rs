@@ -593,26 +593,26 @@ fn candidates_text(a: &Analysis) -> String {
     if a.candidates.is_empty() {
         return String::new();
     }
-    let mut ok: Vec<(&str, f64, bool)> = a
+    let mut ok: Vec<(&str, f64, &str)> = a
         .candidates
         .iter()
         .filter_map(|c| {
-            c.bic
-                .as_ref()
-                .ok()
-                .map(|b| (c.spec.as_str(), *b, c.determined))
+            let mark = match (c.terms_above_noise, c.determined) {
+                (false, _) => " †",
+                (true, false) => " *",
+                (true, true) => "",
+            };
+            c.bic.as_ref().ok().map(|b| (c.spec.as_str(), *b, mark))
         })
         .collect();
     ok.sort_by(|x, y| x.1.total_cmp(&y.1));
     let chosen = a.report.stats.bic;
-    let mut out = String::from("candidates (BIC relative to the chosen model; * = some parameter not determined, not eligible):\n");
-    for (spec, bic, determined) in ok {
-        out += &format!(
-            "  {:<36} {:>10.1}{}\n",
-            spec,
-            bic - chosen,
-            if determined { "" } else { " *" }
-        );
+    let mut out = String::from(
+        "candidates (BIC relative to the chosen model; * = some parameter not determined, chosen only \
+         if no determined candidate is within ΔBIC 10; † = a term smaller than the misfit, never chosen):\n",
+    );
+    for (spec, bic, mark) in ok {
+        out += &format!("  {:<36} {:>10.1}{}\n", spec, bic - chosen, mark);
     }
     for c in a.candidates.iter().filter(|c| c.bic.is_err()) {
         out += &format!(
