@@ -474,11 +474,6 @@ fn load_sweeps(files: &[(PathBuf, f64)], plan: &SweepPlan) -> Result<SourceData,
             ..Default::default()
         })
         .collect();
-    let mut warnings: Vec<String> = measurements
-        .iter()
-        .flat_map(|m| m.sweep.warnings.iter().cloned())
-        .collect();
-    warnings.extend(s.warnings.iter().cloned());
     Ok(SourceData {
         label: files
             .iter()
@@ -488,7 +483,8 @@ fn load_sweeps(files: &[(PathBuf, f64)], plan: &SweepPlan) -> Result<SourceData,
         freq_hz: idx.iter().map(|&i| s.freq_hz[i]).collect(),
         mu: idx.iter().map(|&i| s.mu[i]).collect(),
         provenance,
-        warnings,
+        // The extraction's warnings already hold each sweep's own, tagged with its file name.
+        warnings: s.warnings.clone(),
         sanity: s.sanity.clone(),
     })
 }
