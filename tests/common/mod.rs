@@ -11,7 +11,9 @@ pub struct Scratch {
 
 impl Scratch {
     pub fn new() -> Self {
-        Scratch { dir: tempfile::tempdir().expect("create scratch folder") }
+        Scratch {
+            dir: tempfile::tempdir().expect("create scratch folder"),
+        }
     }
     pub fn path(&self, name: &str) -> PathBuf {
         self.dir.path().join(name)
@@ -44,13 +46,25 @@ impl Run {
     }
     /// Panic with both streams unless the command succeeded.
     pub fn ok(self) -> Self {
-        assert_eq!(self.code, 0, "expected success\nstdout:\n{}\nstderr:\n{}", self.stdout, self.stderr);
+        assert_eq!(
+            self.code, 0,
+            "expected success\nstdout:\n{}\nstderr:\n{}",
+            self.stdout, self.stderr
+        );
         self
     }
     /// Panic unless the command failed cleanly: non-zero exit and no panic message.
     pub fn failed(self) -> Self {
-        assert_ne!(self.code, 0, "expected failure\nstdout:\n{}\nstderr:\n{}", self.stdout, self.stderr);
-        assert!(!self.stderr.contains("panicked"), "the binary panicked:\n{}", self.stderr);
+        assert_ne!(
+            self.code, 0,
+            "expected failure\nstdout:\n{}\nstderr:\n{}",
+            self.stdout, self.stderr
+        );
+        assert!(
+            !self.stderr.contains("panicked"),
+            "the binary panicked:\n{}",
+            self.stderr
+        );
         self
     }
 }
