@@ -11,13 +11,14 @@
 use super::Failure;
 use crate::error::Diagnostic;
 use crate::extract::{
-    self, table::HEADER as MU_TABLE_HEADER, ExtractSetup, LeadCorrection, LeadSource, Measurement,
+    self, table::HEADER as MU_TABLE_HEADER, ExtractSetup, LeadCorrection, Measurement,
 };
 use crate::fit::analysis::{analyse, Analysis, FitRequest, ModelChoice};
-use crate::fit::build_report::{json_view, merged, SourceData};
+use crate::fit::build_report::json_view;
 use crate::fit::engine::FitOptions;
 use crate::fit::report::SourceProvenance;
 use crate::fit::sanity::SaturationPolarisation;
+use crate::fit::source::{merged, SourceData};
 use crate::fit::{summary, text_report};
 use crate::ingest::{self, FixtureCorrection, IngestOptions};
 use crate::plot::fit_plot::{write_fit_plot, FitPlot};
@@ -450,43 +451,9 @@ fn load_sweeps(files: &[(PathBuf, f64)], plan: &SweepPlan) -> Result<SourceData,
         })
         .collect::<Result<Vec<_>, Failure>>()?;
     let s = extract::extract(&measurements, &plan.setup)?;
-    let idx = s.valid_indices();
-    let lead = s.l_lead.as_ref().map(|l| match l.source {
-        LeadSource::Solved => format!("lead inductance {:.3e} H solved across windings", l.henry),
-        LeadSource::Stated => format!("lead inductance {:.3e} H (stated) removed", l.henry),
-    });
-    let provenance = measurements
-        .iter()
-        .map(|m| SourceProvenance {
-            file: m.sweep.source.file_name(),
-            sha256: m.sweep.source.sha256.clone(),
-            method: m.sweep.method.map(|x| x.name().to_string()),
-            core: s.core.spec(),
-            turns: m.turns,
-            corrections: m
-                .sweep
-                .corrections
-                .iter()
-                .chain(&s.corrections)
-                .cloned()
-                .chain(lead.clone())
-                .collect(),
-            ..Default::default()
-        })
-        .collect();
-    Ok(SourceData {
-        label: files
-            .iter()
-            .map(|(p, _)| label(p))
-            .collect::<Vec<_>>()
-            .join("+"),
-        freq_hz: idx.iter().map(|&i| s.freq_hz[i]).collect(),
-        mu: idx.iter().map(|&i| s.mu[i]).collect(),
-        provenance,
-        // The extraction's warnings already hold each sweep's own, tagged with its file name.
-        warnings: s.warnings.clone(),
-        sanity: s.sanity.clone(),
-    })
+    let sweeps: Vec<&ingest::ImpedanceSweep> = measurements.iter().map(|m| &m.sweep).collect();
+    let names: Vec<String> = files.iter().map(|(p, _)| label(p)).collect();
+    Ok(SourceData::from_spectrum(&s, &sweeps, &names.join("+")))
 }
 
 /// Load the job's sources and fit them; the sources come back for the plot.

@@ -7,16 +7,16 @@
 //! MnZn-like material keeps its size-effect warning and stays a draft.
 
 use super::materials::{self, Material};
-use super::pipeline::{io_error, own_warnings, Event, Group, Item, Summary};
+use super::pipeline::{io_error, Event, Group, Item, Summary};
 use super::DemoError;
 use crate::error::Diagnostic;
 use crate::export::{self, Request};
 use crate::extract::band::hz;
-use crate::extract::LeadSource;
 use crate::fit::analysis::{analyse, FitRequest, ModelChoice};
-use crate::fit::build_report::SourceData;
+use crate::fit::source::SourceData;
 use crate::fit::engine::FitOptions;
-use crate::fit::report::{FitReport, SourceProvenance};
+use crate::fit::report::FitReport;
+use crate::ingest::ImpedanceSweep;
 use crate::fit::sanity::SaturationPolarisation;
 use crate::library::Library;
 use crate::model::{Model, Term, TermKind};
@@ -79,41 +79,18 @@ pub(super) fn plan_releases(items: &[Item], groups: &[Group]) -> Vec<Release> {
     releases
 }
 
-/// A group's spectrum inside its valid band, with the provenance of every sweep behind it.
+/// A group's spectrum inside its valid band, with the provenance of every sweep behind it and
+/// the manifest's lot, sample, date and notes on each.
 fn source_data(items: &[Item], g: &Group) -> Option<SourceData> {
     let s = g.spectrum.as_ref()?;
-    let idx = s.valid_indices();
-    let lead = s.l_lead.as_ref().map(|l| match l.source {
-        LeadSource::Solved => format!("lead inductance {:.3e} H solved across windings", l.henry),
-        LeadSource::Stated => format!("lead inductance {:.3e} H (fixture, from the manifest) removed", l.henry),
-    });
-    let provenance = g
-        .members
-        .iter()
-        .filter_map(|&m| {
-            let (e, z) = (&items[m].entry, items[m].impedance.as_ref()?);
-            Some(SourceProvenance {
-                file: e.file.clone(),
-                sha256: z.source.sha256.clone(),
-                method: z.method.map(|x| x.name().to_string()),
-                core: s.core.spec(),
-                turns: e.turns as f64,
-                corrections: z.corrections.iter().chain(&s.corrections).cloned().chain(lead.clone()).collect(),
-                temperature_c: None,
-                notes: Some(format!("lot {}, sample {}, measured {}: {}", e.lot, e.sample, e.date, e.notes)),
-                // Numbered by the fit report, one per source spectrum.
-                sample: 0,
-            })
-        })
-        .collect();
-    Some(SourceData {
-        label: g.name.clone(),
-        freq_hz: idx.iter().map(|&i| s.freq_hz[i]).collect(),
-        mu: idx.iter().map(|&i| s.mu[i]).collect(),
-        provenance,
-        warnings: own_warnings(s),
-        sanity: s.sanity.clone(),
-    })
+    let members: Vec<&Item> = g.members.iter().map(|&m| &items[m]).filter(|i| i.impedance.is_some()).collect();
+    let sweeps: Vec<&ImpedanceSweep> = members.iter().filter_map(|i| i.impedance.as_ref()).collect();
+    let mut data = SourceData::from_spectrum(s, &sweeps, &g.name);
+    for (p, item) in data.provenance.iter_mut().zip(&members) {
+        let e = &item.entry;
+        p.notes = Some(format!("lot {}, sample {}, measured {}: {}", e.lot, e.sample, e.date, e.notes));
+    }
+    Some(data)
 }
 
 /// Step 4: fit every release (`--model auto`) and write its report as `fits/NAME.json`.

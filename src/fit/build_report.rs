@@ -11,37 +11,8 @@ use super::report::{
     Estimate, FitReport, KkReport, ResidualPoint, RunnerUp, SourceProvenance, TermReport,
 };
 use super::sanity::{self, SaturationPolarisation};
-use crate::C64;
+pub use super::source::{merged, SourceData};
 use std::collections::BTreeMap;
-
-/// One source of fitted data: a spectrum inside its valid band, where it came from, and what
-/// earlier stages had to say about it.
-#[derive(Debug, Clone, PartialEq)]
-pub struct SourceData {
-    /// The name the user knows it by (file name).
-    pub label: String,
-    /// Increasing frequencies and μ′ − jμ″.
-    pub freq_hz: Vec<f64>,
-    pub mu: Vec<C64>,
-    /// The sweeps behind it (several when windings were combined into one spectrum).
-    pub provenance: Vec<SourceProvenance>,
-    /// Warnings from ingest and extraction, passed through.
-    pub warnings: Vec<String>,
-    /// The findings among `warnings` that block publishing as material data (see
-    /// [`FitReport::sanity`]), e.g. the extraction's size effect of an MnZn-like core.
-    pub sanity: Vec<String>,
-}
-
-/// All sources' points merged in ascending frequency (stable, so equal frequencies keep the
-/// sources' order): the data a shared model is fitted to.
-pub fn merged(sources: &[SourceData]) -> (Vec<f64>, Vec<C64>) {
-    let mut pts: Vec<(f64, C64)> = sources
-        .iter()
-        .flat_map(|s| s.freq_hz.iter().copied().zip(s.mu.iter().copied()))
-        .collect();
-    pts.sort_by(|a, b| a.0.total_cmp(&b.0));
-    pts.into_iter().unzip()
-}
 
 /// Assemble the report. `kk[i]` is the Lin-KK result of `sources[i]`. Warnings come in
 /// pipeline order: earlier stages, the fit, the KK check, the physics sanity; the sanity list

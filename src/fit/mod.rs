@@ -12,6 +12,7 @@ pub mod problem;
 pub mod report;
 pub mod sanity;
 pub mod screen;
+pub mod source;
 pub mod start;
 pub mod summary;
 pub mod synthetic;
