@@ -11,7 +11,7 @@ use crate::extract::{
     self, band::hz, ExtractSetup, LeadCorrection, LeadSource, Measurement, MuSpectrum,
 };
 use crate::geometry::{cores_file, Core, CoresFile};
-use crate::ingest::{self, FixtureCorrection};
+use crate::ingest::{self, FixtureCorrection, IngestOptions};
 use crate::plot::mu_plot::{write_mu_plot, MuPlot};
 use crate::units::parse_quantity;
 use std::path::{Path, PathBuf};
@@ -26,6 +26,24 @@ pub struct Args {
     /// from the cores file. Shapes: toroid, split, flat, given, stack.
     #[arg(long, value_name = "SPEC")]
     pub core: String,
+    #[command(flatten)]
+    pub winding: WindingArgs,
+    /// μ table of the same material measured on a solid core: estimate this core's gap.
+    #[arg(long, value_name = "MU.csv")]
+    pub solid: Option<PathBuf>,
+    /// Also draw μ′ and μ″ with the valid band shaded (.svg or .png).
+    #[arg(long, value_name = "OUT.svg")]
+    pub plot: Option<PathBuf>,
+    /// Where to write freq_hz,mu_prime,mu_double_prime.
+    #[arg(short = 'o', long = "output", value_name = "OUT.csv")]
+    pub output: PathBuf,
+}
+
+/// How measurement files of one core become μ, besides the core itself: the windings, how the
+/// files are read and corrected, and the corrections of the extraction. `mucurve extract` and
+/// `mucurve fit` flatten this one group, so their options are the same.
+#[derive(Debug, Clone, clap::Args)]
+pub struct WindingArgs {
     /// Cores file of named cores (TOML). Default: cores.toml in the current folder (beside the
     /// library folder), when there is one.
     #[arg(long, value_name = "FILE")]
@@ -41,24 +59,74 @@ pub struct Args {
     /// Stray series inductance of the leads to subtract, e.g. 35nH.
     #[arg(long, value_name = "L", conflicts_with = "solve_lead")]
     pub lead_inductance: Option<String>,
-    /// Solve the lead inductance together with μ from windings of different turns.
+    /// Solve the lead inductance together with μ from windings of different turns (the files
+    /// are windings of one core and make one spectrum).
     #[arg(long)]
     pub solve_lead: bool,
     /// Total residual gap (sum over all faces) replacing the spec's, e.g. 16um.
     #[arg(long, value_name = "L")]
     pub gap: Option<String>,
-    /// μ table of the same material measured on a solid core: estimate this core's gap.
-    #[arg(long, value_name = "MU.csv")]
-    pub solid: Option<PathBuf>,
     /// Winding capacitance to remove from every winding, e.g. 2.2pF.
     #[arg(long, value_name = "C")]
     pub winding_capacitance: Option<String>,
-    /// Also draw μ′ and μ″ with the valid band shaded (.svg or .png).
-    #[arg(long, value_name = "OUT.svg")]
-    pub plot: Option<PathBuf>,
-    /// Where to write freq_hz,mu_prime,mu_double_prime.
-    #[arg(short = 'o', long = "output", value_name = "OUT.csv")]
-    pub output: PathBuf,
+}
+
+/// Everything the files of one core need to become μ: the checked form of [`WindingArgs`].
+#[derive(Debug, Clone)]
+pub struct SweepPlan {
+    pub setup: ExtractSetup,
+    pub options: IngestOptions,
+}
+
+impl WindingArgs {
+    /// Check the options for the core `spec` (resolved through the cores file, with --gap
+    /// applied); nothing is read but the cores file.
+    pub fn plan(&self, spec: &str) -> Result<SweepPlan, Failure> {
+        let core = resolve_core(spec, self.cores_file.as_deref(), self.gap.as_deref())?;
+        let stated = quantity(
+            "--lead-inductance",
+            self.lead_inductance.as_ref(),
+            "H",
+            "e.g. 35nH",
+            MOST_LEAD_H,
+        )?;
+        let lead = match (stated, self.solve_lead) {
+            (Some(l), _) => LeadCorrection::Stated(l),
+            (None, true) => LeadCorrection::Solve,
+            (None, false) => LeadCorrection::None,
+        };
+        let c_p = quantity(
+            "--winding-capacitance",
+            self.winding_capacitance.as_ref(),
+            "F",
+            "e.g. 2.2pF",
+            MOST_CP_F,
+        )?;
+        let options = self.sweep.options()?;
+        let setup = ExtractSetup {
+            core,
+            cores_in_series: self.cores,
+            lead,
+            empty_reference: matches!(options.fixture, FixtureCorrection::Empty(_)),
+            c_p,
+        };
+        Ok(SweepPlan { setup, options })
+    }
+}
+
+impl SweepPlan {
+    /// Read and correct each file, paired with its winding's turns.
+    pub fn read(&self, files: &[(PathBuf, f64)]) -> Result<Vec<Measurement>, Failure> {
+        files
+            .iter()
+            .map(|(f, n)| {
+                Ok(Measurement {
+                    sweep: ingest::ingest_file(f, &self.options)?,
+                    turns: *n,
+                })
+            })
+            .collect()
+    }
 }
 
 /// Largest stray lead inductance accepted: leads of a bench winding are tens of nH
@@ -184,30 +252,8 @@ fn check_output(output: &Path, inputs: &[&Path]) -> Result<(), Failure> {
 }
 
 pub fn run(args: Args) -> Result<(), Failure> {
-    let core = resolve_core(&args.core, args.cores_file.as_deref(), args.gap.as_deref())?;
-    let turns = parse_turns(&args.turns, args.files.len())?;
-    let lead = match (
-        quantity(
-            "--lead-inductance",
-            args.lead_inductance.as_ref(),
-            "H",
-            "e.g. 35nH",
-            MOST_LEAD_H,
-        )?,
-        args.solve_lead,
-    ) {
-        (Some(l), _) => LeadCorrection::Stated(l),
-        (None, true) => LeadCorrection::Solve,
-        (None, false) => LeadCorrection::None,
-    };
-    let c_p = quantity(
-        "--winding-capacitance",
-        args.winding_capacitance.as_ref(),
-        "F",
-        "e.g. 2.2pF",
-        MOST_CP_F,
-    )?;
-    let options = args.sweep.options()?;
+    let plan = args.winding.plan(&args.core)?;
+    let turns = parse_turns(&args.winding.turns, args.files.len())?;
     let mut inputs: Vec<&Path> = args.files.iter().map(PathBuf::as_path).collect();
     inputs.extend(args.solid.as_deref());
     check_output(&args.output, &inputs)?;
@@ -231,25 +277,8 @@ pub fn run(args: Args) -> Result<(), Failure> {
         }
     };
 
-    let measurements = args
-        .files
-        .iter()
-        .zip(&turns)
-        .map(|(f, &n)| {
-            Ok(Measurement {
-                sweep: ingest::ingest_file(f, &options)?,
-                turns: n,
-            })
-        })
-        .collect::<Result<Vec<_>, Failure>>()?;
-    let setup = ExtractSetup {
-        core,
-        cores_in_series: args.cores,
-        lead,
-        empty_reference: matches!(options.fixture, FixtureCorrection::Empty(_)),
-        c_p,
-    };
-    let mut spectrum = extract::extract(&measurements, &setup)?;
+    let files: Vec<(PathBuf, f64)> = args.files.iter().cloned().zip(turns).collect();
+    let mut spectrum = extract::extract(&plan.read(&files)?, &plan.setup)?;
     if let Some(t) = &solid {
         spectrum.gap_estimate = Some(extract::estimate_gap_against(&spectrum, t)?);
     }

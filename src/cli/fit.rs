@@ -8,11 +8,10 @@
 //! spectrum); with `--joint` one model is fitted to all inputs together (samples of one material,
 //! what the library publishes).
 
+use super::extract::{SweepPlan, WindingArgs};
 use super::Failure;
 use crate::error::Diagnostic;
-use crate::extract::{
-    self, table::HEADER as MU_TABLE_HEADER, ExtractSetup, LeadCorrection, Measurement,
-};
+use crate::extract::{self, table::HEADER as MU_TABLE_HEADER};
 use crate::fit::analysis::{analyse, Analysis, FitRequest, ModelChoice};
 use crate::fit::build_report::json_view;
 use crate::fit::engine::FitOptions;
@@ -20,7 +19,7 @@ use crate::fit::report::SourceProvenance;
 use crate::fit::sanity::SaturationPolarisation;
 use crate::fit::source::{merged, SourceData};
 use crate::fit::{summary, text_report};
-use crate::ingest::{self, FixtureCorrection, IngestOptions};
+use crate::ingest;
 use crate::plot::fit_plot::{write_fit_plot, FitPlot};
 use crate::units::parse_quantity;
 use indicatif::{ProgressBar, ProgressStyle};
@@ -48,8 +47,13 @@ pub struct Args {
     /// Fit one model to all inputs together (samples of one material) instead of one each.
     #[arg(long)]
     pub joint: bool,
+    /// The core, for analyser sweeps (as for mucurve extract): SHAPE:key=value,... with units,
+    /// or a name from the cores file. Not needed for μ tables.
+    #[arg(long, value_name = "SPEC")]
+    pub core: Option<String>,
+    // How sweeps become μ: the options of `mucurve extract` (unused for μ tables).
     #[command(flatten)]
-    pub sweeps: SweepInputArgs,
+    pub winding: WindingArgs,
     /// Print one JSON object per fit, one per line, instead of the text report.
     #[arg(long)]
     pub json: bool,
@@ -64,42 +68,6 @@ pub struct Args {
     pub summary: Option<PathBuf>,
 }
 
-/// How analyser sweeps become μ: the options of `mucurve extract` (unused for μ tables).
-#[derive(Debug, clap::Args)]
-pub struct SweepInputArgs {
-    /// The core: SHAPE:key=value,... with units, or a name from the cores file.
-    #[arg(long, value_name = "SPEC")]
-    pub core: Option<String>,
-    /// Cores file of named cores (TOML).
-    #[arg(long, value_name = "FILE")]
-    pub cores_file: Option<PathBuf>,
-    /// Turns of each sweep's winding, in file order; a single value applies to every sweep.
-    #[arg(long, value_name = "N[,N...]", default_value = "1")]
-    pub turns: String,
-    /// Identical cores threaded in series on the winding.
-    #[arg(long, value_name = "M", default_value_t = 1)]
-    pub cores: u32,
-    #[command(flatten)]
-    pub sweep: super::ingest::SweepArgs,
-    /// Stray series inductance of the leads to subtract, e.g. 35nH.
-    #[arg(long, value_name = "L", conflicts_with = "solve_lead")]
-    pub lead_inductance: Option<String>,
-    /// Solve the lead inductance with μ from windings of different turns (the sweeps are
-    /// windings of one core and make one spectrum).
-    #[arg(long)]
-    pub solve_lead: bool,
-    /// Total residual gap replacing the core spec's, e.g. 16um.
-    #[arg(long, value_name = "L")]
-    pub gap: Option<String>,
-    /// Winding capacitance to remove from every winding, e.g. 2.2pF.
-    #[arg(long, value_name = "C")]
-    pub winding_capacitance: Option<String>,
-}
-
-/// Largest stated lead inductance and winding capacitance accepted (same limits as `extract`:
-/// a bench winding's leads are tens of nH, its capacitance a few pF; more is a mistyped unit).
-const MOST_LEAD_H: f64 = 10e-6;
-const MOST_CP_F: f64 = 1e-9;
 /// Saturation polarisations accepted, T (no soft magnetic material exceeds ~2.5 T).
 const JS_RANGE_T: (f64, f64) = (0.01, 2.5);
 /// File name endings taken from a folder: CSV tables and Touchstone files.
@@ -132,12 +100,6 @@ struct Job {
     sources: Vec<SourceSpec>,
 }
 
-/// Everything a sweep needs to become μ.
-struct SweepPlan {
-    setup: ExtractSetup,
-    options: IngestOptions,
-}
-
 fn bad(option: &str, message: impl Into<String>, expected: &str, hint: &str) -> Failure {
     Failure::input(
         Diagnostic::new(format!("{}: {}", option, message.into()))
@@ -153,23 +115,6 @@ fn io_failure(path: &Path, what: &str, e: std::io::Error) -> Failure {
             .file(path)
             .to_string(),
     )
-}
-
-/// A stated quantity in `unit`, within (0, most].
-fn bounded(option: &str, text: &str, unit: &str, example: &str, most: f64) -> Result<f64, Failure> {
-    let v = parse_quantity(text, unit).map_err(|e| bad(option, e, example, ""))?;
-    if !(v > 0.0 && v <= most) {
-        return Err(bad(
-            option,
-            format!(
-                "'{}' is {} {}, outside 0 to {} {}",
-                text, v, unit, most, unit
-            ),
-            example,
-            "a bare number is in SI units",
-        ));
-    }
-    Ok(v)
 }
 
 fn parse_js(text: Option<&str>) -> Result<SaturationPolarisation, Failure> {
@@ -273,7 +218,7 @@ fn plan_jobs(inputs: &[PathBuf], args: &Args) -> Result<Vec<Job>, Failure> {
         .map(|p| (label(p), stem(p), SourceSpec::Table(p.clone())))
         .collect();
     if !sweeps.is_empty() {
-        if args.sweeps.core.is_none() {
+        if args.core.is_none() {
             return Err(Failure::input(
                 Diagnostic::new(format!("{} is an analyser sweep, and turning it into μ needs the core", sweeps[0].display()))
                     .expected("--core SHAPE:key=value,... (as for mucurve extract), or a μ table written by mucurve extract")
@@ -281,9 +226,9 @@ fn plan_jobs(inputs: &[PathBuf], args: &Args) -> Result<Vec<Job>, Failure> {
                     .to_string(),
             ));
         }
-        let turns = super::extract::parse_turns(&args.sweeps.turns, sweeps.len())?;
+        let turns = super::extract::parse_turns(&args.winding.turns, sweeps.len())?;
         let pairs: Vec<(PathBuf, f64)> = sweeps.into_iter().zip(turns).collect();
-        if args.sweeps.solve_lead {
+        if args.winding.solve_lead {
             let names: Vec<String> = pairs.iter().map(|(p, _)| label(p)).collect();
             specs.push((
                 names.join("+"),
@@ -319,38 +264,6 @@ fn plan_jobs(inputs: &[PathBuf], args: &Args) -> Result<Vec<Job>, Failure> {
             sources: vec![s],
         })
         .collect())
-}
-
-fn sweep_plan(args: &SweepInputArgs) -> Result<Option<SweepPlan>, Failure> {
-    let Some(spec) = &args.core else {
-        return Ok(None);
-    };
-    let core = super::extract::resolve_core(spec, args.cores_file.as_deref(), args.gap.as_deref())?;
-    let lead = match (&args.lead_inductance, args.solve_lead) {
-        (Some(l), _) => LeadCorrection::Stated(bounded(
-            "--lead-inductance",
-            l,
-            "H",
-            "e.g. 35nH",
-            MOST_LEAD_H,
-        )?),
-        (None, true) => LeadCorrection::Solve,
-        (None, false) => LeadCorrection::None,
-    };
-    let c_p = args
-        .winding_capacitance
-        .as_deref()
-        .map(|t| bounded("--winding-capacitance", t, "F", "e.g. 2.2pF", MOST_CP_F))
-        .transpose()?;
-    let options = args.sweep.options()?;
-    let setup = ExtractSetup {
-        core,
-        cores_in_series: args.cores,
-        lead,
-        empty_reference: matches!(options.fixture, FixtureCorrection::Empty(_)),
-        c_p,
-    };
-    Ok(Some(SweepPlan { setup, options }))
 }
 
 /// A μ table → the points inside its valid band, with the provenance its metadata records.
@@ -441,15 +354,7 @@ fn parse_source_line(v: &str) -> Option<(String, String, f64)> {
 
 /// Sweeps of one core → μ inside the valid band, through the extract stage.
 fn load_sweeps(files: &[(PathBuf, f64)], plan: &SweepPlan) -> Result<SourceData, Failure> {
-    let measurements = files
-        .iter()
-        .map(|(f, n)| {
-            Ok(Measurement {
-                sweep: ingest::ingest_file(f, &plan.options)?,
-                turns: *n,
-            })
-        })
-        .collect::<Result<Vec<_>, Failure>>()?;
+    let measurements = plan.read(files)?;
     let s = extract::extract(&measurements, &plan.setup)?;
     let sweeps: Vec<&ingest::ImpedanceSweep> = measurements.iter().map(|m| &m.sweep).collect();
     let names: Vec<String> = files.iter().map(|(p, _)| label(p)).collect();
@@ -599,7 +504,11 @@ pub fn run(args: Args) -> Result<(), Failure> {
     let inputs = expand_inputs(&args.files)?;
     check_outputs(&args, &inputs)?;
     let jobs = plan_jobs(&inputs, &args)?;
-    let plan = sweep_plan(&args.sweeps)?;
+    let plan = args
+        .core
+        .as_deref()
+        .map(|core| args.winding.plan(core))
+        .transpose()?;
     let progress = if jobs.len() > 1 && std::io::stderr().is_terminal() {
         let pb = ProgressBar::new(jobs.len() as u64);
         if let Ok(style) = ProgressStyle::with_template("fitting {bar:40} {pos}/{len} {elapsed}") {
@@ -700,6 +609,51 @@ mod tests {
             per_fit_path(Path::new("out/fit.json"), "core-a", 3),
             PathBuf::from("out/fit-core-a.json")
         );
+    }
+
+    /// Option names are a contract: `fit` accepts the same correction options as `extract`
+    /// (issue: fitting engine, item 3), with `-o`, `--plot`, `--model` and `--json` besides.
+    #[test]
+    fn extract_and_fit_take_the_same_correction_options() {
+        use clap::CommandFactory;
+        let cli = crate::cli::Cli::command();
+        let flags = |name: &str| -> Vec<String> {
+            let cmd = cli.find_subcommand(name).unwrap();
+            cmd.get_arguments()
+                .flat_map(|a| {
+                    a.get_long()
+                        .map(|l| format!("--{l}"))
+                        .into_iter()
+                        .chain(a.get_short().map(|c| format!("-{c}")))
+                })
+                .collect()
+        };
+        let (extract, fit) = (flags("extract"), flags("fit"));
+        for flag in [
+            "--core",
+            "--cores-file",
+            "--turns",
+            "--cores",
+            "--method",
+            "--z0",
+            "--empty",
+            "--open",
+            "--short",
+            "--columns",
+            "--ports",
+            "--lead-inductance",
+            "--solve-lead",
+            "--gap",
+            "--winding-capacitance",
+            "--plot",
+            "-o",
+        ] {
+            assert!(extract.iter().any(|f| f == flag), "extract lacks {flag}");
+            assert!(fit.iter().any(|f| f == flag), "fit lacks {flag}");
+        }
+        for flag in ["--model", "--json"] {
+            assert!(fit.iter().any(|f| f == flag), "fit lacks {flag}");
+        }
     }
 
     #[test]
