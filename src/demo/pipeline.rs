@@ -9,6 +9,7 @@ use super::DemoError;
 use crate::error::Diagnostic;
 use crate::extract::{self, band::hz, ExtractSetup, LeadCorrection, Measurement, MuSpectrum};
 use crate::ingest::{self, ImpedanceSweep, Method, ReadOptions, SweepData};
+use std::collections::BTreeSet;
 use std::path::{Path, PathBuf};
 
 /// Where the demo reads and writes.
@@ -53,6 +54,34 @@ pub struct Summary {
     pub failures: Vec<String>,
 }
 
+/// What the demo has said in full so far: a warning met again (the size effect of a core,
+/// reported by the extraction and again as the reason its material stays a draft) is said once
+/// and afterwards referred to by its opening words.
+#[derive(Debug, Default)]
+pub(super) struct Said(BTreeSet<String>);
+
+/// Characters of a warning kept, at most, when it is referred to again.
+const BRIEF_CHARS: usize = 90;
+
+impl Said {
+    /// Whether `text` is said for the first time (it counts as said from now on).
+    pub fn first_time(&mut self, text: &str) -> bool {
+        self.0.insert(text.to_string())
+    }
+
+    /// `text` in full the first time; after that its opening words, up to a clause mark (or
+    /// a space) within [`BRIEF_CHARS`].
+    pub fn once(&mut self, text: &str) -> String {
+        if self.first_time(text) || text.chars().count() <= BRIEF_CHARS {
+            return text.to_string();
+        }
+        let head: String = text.chars().take(BRIEF_CHARS).collect();
+        let clause = [": ", "; ", ", "].iter().filter_map(|m| head.rfind(m)).max();
+        let cut = clause.filter(|&c| 2 * c > head.len()).or(head.rfind(' ')).unwrap_or(head.len());
+        format!("{} … (as above)", &head[..cut])
+    }
+}
+
 /// One measurement file as it moves through the stages.
 pub(super) struct Item {
     pub entry: Entry,
@@ -84,10 +113,11 @@ pub fn run(opts: &Options, report: &mut dyn FnMut(Event)) -> Result<Summary, Dem
     let mut summary = Summary { files: items.len(), ..Summary::default() };
     ingest_all(opts, &mut items, &mut summary, report)?;
     let mut groups = plan_groups(&items);
-    extract_all(opts, &items, &mut groups, &mut summary, report)?;
+    let mut said = Said::default();
+    extract_all(opts, &items, &mut groups, &mut said, &mut summary, report)?;
     let mut releases = release::plan_releases(&items, &groups);
-    release::fit_all(&opts.out_dir, &items, &groups, &mut releases, &mut summary, report)?;
-    release::publish_and_vet(&opts.library_dir, &mut releases, &mut summary, report)?;
+    release::fit_all(&opts.out_dir, &items, &groups, &mut releases, &mut said, &mut summary, report)?;
+    release::publish_and_vet(&opts.library_dir, &mut releases, &mut said, &mut summary, report)?;
     release::export_vetted(&opts.out_dir, &opts.library_dir, &releases, &mut summary, report)?;
     Ok(summary)
 }
@@ -223,6 +253,7 @@ fn extract_all(
     opts: &Options,
     items: &[Item],
     groups: &mut [Group],
+    said: &mut Said,
     summary: &mut Summary,
     report: &mut dyn FnMut(Event),
 ) -> Result<(), DemoError> {
@@ -241,7 +272,7 @@ fn extract_all(
                     report(Event::Detail(first));
                 }
                 for w in lines {
-                    report(Event::Warning(format!("{}: {}", g.name, w)));
+                    report(Event::Warning(said.once(&format!("{}: {}", g.name, w))));
                 }
             }
             Err(reason) => {
@@ -317,5 +348,22 @@ fn ohm(z: f64) -> String {
         format!("{} kOhm", super::formats::significant(z / 1e3, 3))
     } else {
         format!("{} Ohm", super::formats::significant(z, 3))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_warning_is_said_in_full_once_then_by_its_opening_clause() {
+        let mut said = Said::default();
+        let long = "core-a: μ′ ≈ 2265 at the bottom of the band looks like MnZn ferrite: above about 1 MHz its \
+                    dimensional resonance makes the apparent μ this core's";
+        assert_eq!(said.once(long), long);
+        assert_eq!(said.once(long), "core-a: μ′ ≈ 2265 at the bottom of the band looks like MnZn ferrite … (as above)");
+        assert!(!said.first_time(long));
+        // Short ones are repeated as they are.
+        assert_eq!(said.once("1 repeated frequency"), said.once("1 repeated frequency"));
     }
 }

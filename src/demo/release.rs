@@ -7,18 +7,18 @@
 //! MnZn-like material keeps its size-effect warning and stays a draft.
 
 use super::materials::{self, Material};
-use super::pipeline::{io_error, Event, Group, Item, Summary};
+use super::pipeline::{io_error, Event, Group, Item, Said, Summary};
 use super::DemoError;
 use crate::error::Diagnostic;
 use crate::export::{self, Request};
 use crate::extract::band::hz;
 use crate::fit::analysis::{analyse, FitRequest, ModelChoice};
-use crate::fit::source::SourceData;
 use crate::fit::engine::FitOptions;
 use crate::fit::report::FitReport;
-use crate::ingest::ImpedanceSweep;
 use crate::fit::sanity::SaturationPolarisation;
-use crate::library::Library;
+use crate::fit::source::SourceData;
+use crate::ingest::ImpedanceSweep;
+use crate::library::{material::Material as Version, vetting, Library};
 use crate::model::{Model, Term, TermKind};
 use std::path::{Path, PathBuf};
 
@@ -99,6 +99,7 @@ pub(super) fn fit_all(
     items: &[Item],
     groups: &[Group],
     releases: &mut [Release],
+    said: &mut Said,
     summary: &mut Summary,
     report: &mut dyn FnMut(Event),
 ) -> Result<(), DemoError> {
@@ -126,6 +127,10 @@ pub(super) fn fit_all(
                 summary.fitted += 1;
                 report(Event::Detail(fit_line(r, sources.len(), &fit)));
                 report(Event::Detail(format!("    {}", compare_with_truth(&fit, &r.material.model))));
+                // Findings of earlier steps (the extraction's) were said there.
+                for f in fit.sanity.iter().flatten().filter(|f| said.first_time(f)) {
+                    report(Event::Warning(format!("{}: {}", r.name, f)));
+                }
                 r.fit_path = Some(path);
             }
             Err(reason) => {
@@ -143,8 +148,13 @@ fn fit_line(r: &Release, sources: usize, fit: &FitReport) -> String {
         .as_ref()
         .map(|u| format!(" (runner-up {}, ΔBIC {:.0})", u.model, u.delta_bic))
         .unwrap_or_default();
+    let findings = match fit.sanity.as_ref().map_or(0, Vec::len) {
+        0 => "no sanity findings".to_string(),
+        1 => "1 sanity finding".to_string(),
+        n => format!("{} sanity findings", n),
+    };
     format!(
-        "{:<26} {} sources: {}{}; rms {:.2} %, max {:.2} %; Kramers–Kronig {}; {} warning(s)",
+        "{:<26} {} sources: {}{}; rms {:.2} %, max {:.2} %; Kramers–Kronig {}; {}",
         r.name,
         sources,
         fit.model,
@@ -152,7 +162,7 @@ fn fit_line(r: &Release, sources: usize, fit: &FitReport) -> String {
         100.0 * fit.stats.rms_rel,
         100.0 * fit.stats.max_rel,
         if fit.kk.pass { "pass" } else { "FAIL" },
-        fit.warnings.len()
+        findings
     )
 }
 
@@ -231,6 +241,7 @@ pub fn fresh_library(dir: &Path) -> Result<(), DemoError> {
 pub(super) fn publish_and_vet(
     library_dir: &Path,
     releases: &mut [Release],
+    said: &mut Said,
     summary: &mut Summary,
     report: &mut dyn FnMut(Event),
 ) -> Result<(), DemoError> {
@@ -264,8 +275,9 @@ pub(super) fn publish_and_vet(
                 report(Event::Detail(format!("{}@{} vetted", id, v)));
             }
             Err(e) => {
-                let reasons = e.0.message.replace("\n  ", "\n      ");
-                report(Event::Detail(format!("{}@{} stays draft: {}", id, v, reasons)));
+                let reasons = lib.load(id, Some(v)).map(|m| draft_reasons(&m, said)).unwrap_or_default();
+                let reasons = if reasons.is_empty() { vec![e.0.message] } else { reasons };
+                report(Event::Detail(format!("{}@{} stays draft:\n      {}", id, v, reasons.join("\n      "))));
             }
         }
     }
@@ -278,6 +290,22 @@ pub(super) fn publish_and_vet(
         report(Event::Detail(format!("{}@{} retired, superseded by {}", id, v, successor)));
     }
     Ok(())
+}
+
+/// Why `m` cannot be vetted: each failed rule with its figures, the sanity findings one per line
+/// (each said once in the demo's output).
+fn draft_reasons(m: &Version, said: &mut Said) -> Vec<String> {
+    let mut out = Vec::new();
+    for rule in vetting::failures(m) {
+        match (rule.rule, &m.sanity) {
+            ("sanity", Some(findings)) if !findings.is_empty() => {
+                out.push("rule sanity failed:".to_string());
+                out.extend(findings.iter().map(|f| format!("   {}", said.once(f))));
+            }
+            _ => out.push(format!("rule {} failed: {}", rule.rule, rule.detail)),
+        }
+    }
+    out
 }
 
 /// The part the organisation puts on its cable entries: one pass of the cable through the clip-on
