@@ -7,7 +7,7 @@
 //! MnZn-like material keeps its size-effect warning and stays a draft.
 
 use super::materials::{self, Material};
-use super::pipeline::{io_error, Event, Group, Item, Said, Summary};
+use super::pipeline::{io_error, own_warnings, Event, Group, Item, Said, Summary};
 use super::DemoError;
 use crate::error::Diagnostic;
 use crate::export::{self, Request};
@@ -80,12 +80,16 @@ pub(super) fn plan_releases(items: &[Item], groups: &[Group]) -> Vec<Release> {
 }
 
 /// A group's spectrum inside its valid band, with the provenance of every sweep behind it and
-/// the manifest's lot, sample, date and notes on each.
+/// the manifest's lot, sample, date and notes on each. The reader's notes on each file (a merged
+/// segment boundary, noise outside the band) were reported at ingest and concern the files, not
+/// the material, so the demo's fits leave them out; the export stage would repeat every warning
+/// of a fit on each file it writes.
 fn source_data(items: &[Item], g: &Group) -> Option<SourceData> {
     let s = g.spectrum.as_ref()?;
     let members: Vec<&Item> = g.members.iter().map(|&m| &items[m]).filter(|i| i.impedance.is_some()).collect();
     let sweeps: Vec<&ImpedanceSweep> = members.iter().filter_map(|i| i.impedance.as_ref()).collect();
     let mut data = SourceData::from_spectrum(s, &sweeps, &g.name);
+    data.warnings = own_warnings(s);
     for (p, item) in data.provenance.iter_mut().zip(&members) {
         let e = &item.entry;
         p.notes = Some(format!("lot {}, sample {}, measured {}: {}", e.lot, e.sample, e.date, e.notes));
