@@ -379,11 +379,14 @@ fn warnings(source: &Source, grid: &FreqGrid, target: &Target) -> Vec<String> {
             why
         )),
     }
-    if !source.material.warnings.is_empty() {
+    // Only the physics-sanity findings travel with every exported file; reader notes about the
+    // source sweeps stay in the material file. Older files without the list repeat them all.
+    let findings = source.material.sanity.as_ref().unwrap_or(&source.material.warnings);
+    if !findings.is_empty() {
         w.push(format!(
-            "the fit behind {} carries warnings: {}",
+            "the fit behind {} has sanity findings: {}",
             source.material.reference(),
-            source.material.warnings.join("; ")
+            findings.join("; ")
         ));
     }
     if target.device().is_some_and(|d| d.core.gap_unknown()) {
