@@ -69,7 +69,7 @@ impl FreqGrid {
         let n = self.points;
         let ratio = self.stop_hz / self.start_hz;
         let mut f: Vec<f64> = (0..n)
-            .map(|i| self.start_hz * ratio.powf(i as f64 / (n - 1) as f64))
+            .map(|i| round_significant(self.start_hz * ratio.powf(i as f64 / (n - 1) as f64), 12))
             .collect();
         f[n - 1] = self.stop_hz;
         f
@@ -127,4 +127,14 @@ mod tests {
             assert!(e.0.expected.contains("START..STOP:POINTS"), "{bad}: {e}");
         }
     }
+}
+
+/// `x` rounded to `digits` significant digits, so decade points print as 1e7 rather than
+/// 9999999.999999998 (the rounding is far below any analyser's frequency resolution).
+fn round_significant(x: f64, digits: i32) -> f64 {
+    if x == 0.0 || !x.is_finite() {
+        return x;
+    }
+    let scale = 10f64.powi(digits - 1 - x.abs().log10().floor() as i32);
+    (x * scale).round() / scale
 }
