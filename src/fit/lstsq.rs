@@ -110,6 +110,173 @@ impl PivotedQr {
     }
 }
 
+/// Squared sine of the angle between a column and the span of the columns kept before it below
+/// which [`GramFactor`] drops the column as dependent. The Gram matrix squares the condition of
+/// the columns, so this corresponds to a relative singular-value cut-off of about 1e-6: far
+/// above the rounding of a unit-diagonal Gram matrix (~1e-15), far below any direction that
+/// changes a fit (common practice for rank decisions on normal equations; Golub & Van Loan §5.3.7).
+pub const DEPENDENT_PIVOT: f64 = 1e-12;
+
+/// Σ aᵢbᵢ with independent partial sums, so the compiler can vectorise it (a single running sum
+/// cannot be reordered).
+pub fn dot(a: &[f64], b: &[f64]) -> f64 {
+    ndarray::aview1(a).dot(&ndarray::aview1(b))
+}
+
+/// Cholesky factor of a Gram matrix G = AᵀA for the normal equations AᵀA·x = Aᵀb, for small
+/// linear fits that are re-solved many times with changing columns (Lin-KK). G is scaled to unit
+/// diagonal first; a column whose pivot falls below [`DEPENDENT_PIVOT`] lies in the span of the
+/// columns before it and is left out with coefficient 0 — the normal-equation counterpart of
+/// [`PivotedQr`]'s rank decision, without pivoting (the columns' own order decides which of two
+/// dependent columns stays).
+#[derive(Debug, Clone)]
+pub struct GramFactor {
+    n: usize,
+    /// Lower factor of the scaled matrix, row-major n×n (rows of dropped columns are zero).
+    l: Vec<f64>,
+    /// 1/√G_ii (0 for a zero column).
+    scale: Vec<f64>,
+    kept: Vec<bool>,
+}
+
+impl GramFactor {
+    /// Factor the n×n symmetric matrix whose entries `entry(i, j)` gives (read for i ≥ j).
+    pub fn new(n: usize, entry: impl Fn(usize, usize) -> f64) -> GramFactor {
+        let scale: Vec<f64> = (0..n)
+            .map(|i| {
+                let d = entry(i, i);
+                if d > 0.0 && d.is_finite() {
+                    1.0 / d.sqrt()
+                } else {
+                    0.0
+                }
+            })
+            .collect();
+        let mut l = vec![0.0; n * n];
+        let mut kept = vec![false; n];
+        for j in 0..n {
+            if scale[j] == 0.0 {
+                continue;
+            }
+            let row_j = j * n;
+            let mut d = entry(j, j) * scale[j] * scale[j];
+            d -= l[row_j..row_j + j].iter().map(|v| v * v).sum::<f64>();
+            if !(d > DEPENDENT_PIVOT) {
+                continue;
+            }
+            let ljj = d.sqrt();
+            l[row_j + j] = ljj;
+            kept[j] = true;
+            for i in j + 1..n {
+                if scale[i] == 0.0 {
+                    continue;
+                }
+                let row_i = i * n;
+                let s = entry(i, j) * scale[i] * scale[j]
+                    - dot(&l[row_i..row_i + j], &l[row_j..row_j + j]);
+                l[row_i + j] = s / ljj;
+            }
+        }
+        GramFactor { n, l, scale, kept }
+    }
+
+    /// Columns kept (not dependent on the ones before them).
+    pub fn rank(&self) -> usize {
+        self.kept.iter().filter(|k| **k).count()
+    }
+
+    /// x with G·x = `rhs` on the kept columns, 0 for the dropped ones.
+    pub fn solve(&self, rhs: &[f64]) -> Vec<f64> {
+        let n = self.n;
+        let mut y: Vec<f64> = rhs.iter().zip(&self.scale).map(|(r, s)| r * s).collect();
+        for i in 0..n {
+            y[i] = if self.kept[i] {
+                (y[i] - dot(&self.l[i * n..i * n + i], &y[..i])) / self.l[i * n + i]
+            } else {
+                0.0
+            };
+        }
+        for i in (0..n).rev() {
+            if !self.kept[i] {
+                continue;
+            }
+            let s: f64 = (i + 1..n).map(|k| self.l[k * n + i] * y[k]).sum();
+            y[i] = (y[i] - s) / self.l[i * n + i];
+        }
+        y.iter().zip(&self.scale).map(|(v, s)| v * s).collect()
+    }
+}
+
+/// The normal equations AᵀA·x = Aᵀb of columns given as slices of one length, kept so that
+/// subsets of the columns can be solved, or columns added, without forming the products again.
+#[derive(Debug, Clone)]
+pub struct NormalEquations {
+    k: usize,
+    /// AᵀA, row-major k×k.
+    g: Vec<f64>,
+    /// Aᵀb.
+    h: Vec<f64>,
+}
+
+impl NormalEquations {
+    pub fn new(cols: &[Vec<f64>], b: &[f64]) -> NormalEquations {
+        NormalEquations {
+            k: 0,
+            g: Vec::new(),
+            h: Vec::new(),
+        }
+        .extended(&[], cols, b)
+    }
+
+    /// These equations (of the columns `cols`) with the columns `more` appended.
+    pub fn extended(&self, cols: &[Vec<f64>], more: &[Vec<f64>], b: &[f64]) -> NormalEquations {
+        debug_assert_eq!(cols.len(), self.k);
+        let k = self.k + more.len();
+        let col = |i: usize| {
+            if i < self.k {
+                &cols[i]
+            } else {
+                &more[i - self.k]
+            }
+        };
+        let mut g = vec![0.0; k * k];
+        for i in 0..k {
+            for j in 0..=i {
+                let v = if i < self.k {
+                    self.g[i * self.k + j]
+                } else {
+                    dot(col(i), col(j))
+                };
+                g[i * k + j] = v;
+                g[j * k + i] = v;
+            }
+        }
+        let mut h = self.h.clone();
+        h.extend(more.iter().map(|c| dot(c, b)));
+        NormalEquations { k, g, h }
+    }
+
+    /// The factor of the Gram matrix of the columns `subset` (indices, in that order).
+    pub fn factor(&self, subset: &[usize]) -> GramFactor {
+        GramFactor::new(subset.len(), |i, j| self.g[subset[i] * self.k + subset[j]])
+    }
+
+    /// Least-squares coefficients of the columns `subset` (in that order; 0 for dependent ones).
+    pub fn solve(&self, subset: &[usize]) -> Vec<f64> {
+        let rhs: Vec<f64> = subset.iter().map(|&i| self.h[i]).collect();
+        self.factor(subset).solve(&rhs)
+    }
+
+    /// Number of columns.
+    pub fn len(&self) -> usize {
+        self.k
+    }
+
+    pub fn is_empty(&self) -> bool {
+        self.k == 0
+    }
+}
+
 /// Least-squares solution of min ‖A·x − b‖ for A given by columns. Columns are scaled to unit
 /// norm first so the rank decision compares directions, not units; the solution is unscaled.
 pub fn lstsq(mut cols: Vec<Vec<f64>>, b: &[f64], rank_rtol: f64) -> Vec<f64> {
@@ -218,6 +385,33 @@ mod tests {
         for v in x {
             assert!((v - 1.0).abs() < 1e-9, "{v}");
         }
+    }
+
+    /// The normal equations of the straight line give the same closed-form estimates
+    /// (Draper & Smith §1.2), and a duplicated column is dropped, not amplified.
+    #[test]
+    fn gram_factor_solves_the_straight_line_and_drops_a_duplicate() {
+        let x = [0.0, 1.0, 2.0, 3.0, 4.0, 5.0];
+        let y = [1.1, 2.9, 5.2, 7.1, 8.8, 11.2];
+        let n = x.len() as f64;
+        let (xm, ym) = (x.iter().sum::<f64>() / n, y.iter().sum::<f64>() / n);
+        let sxx: f64 = x.iter().map(|v| (v - xm) * (v - xm)).sum();
+        let sxy: f64 = x.iter().zip(&y).map(|(a, b)| (a - xm) * (b - ym)).sum();
+        let (b, a) = (sxy / sxx, ym - sxy / sxx * xm);
+        let cols = [
+            vec![1.0; 6],
+            x.to_vec(),
+            x.iter().map(|v| 3.0 * v).collect(),
+        ];
+        let g = GramFactor::new(3, |i, j| dot(&cols[i], &cols[j]));
+        assert_eq!(g.rank(), 2);
+        let rhs: Vec<f64> = cols.iter().map(|c| dot(c, &y)).collect();
+        let sol = g.solve(&rhs);
+        assert!(
+            (sol[0] - a).abs() < 1e-12 && (sol[1] - b).abs() < 1e-12,
+            "{sol:?}"
+        );
+        assert_eq!(sol[2], 0.0);
     }
 
     /// A duplicated column is dependent: rank drops by one and the fit is unchanged.

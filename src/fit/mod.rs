@@ -5,6 +5,7 @@ pub mod analysis;
 pub mod build_report;
 pub mod engine;
 pub mod kk;
+pub mod kk_resonance;
 pub mod lm;
 pub mod lstsq;
 pub mod normal_equations;
