@@ -7,11 +7,16 @@
 //! the tail of a large relaxation, overlapping peaks).
 
 use super::engine::thinned;
+use super::lstsq::dot;
 use crate::model::{Model, Term, TermKind};
 use crate::C64;
 
 /// Grid density of f_r, per decade, and how far beyond the band the grid reaches (decades).
 const PER_DECADE: f64 = 8.0;
+/// The same for the relaxation kinds, whose loss peaks are a decade or more wide (Debye: 1.14
+/// decades at half height, PHYSICS.md §4): half the resonance grid's density places them as
+/// well, at a quarter of the pairs to screen.
+const RELAXATION_PER_DECADE: f64 = 4.0;
 const BEYOND_BAND_DEC: f64 = 0.5;
 /// Two screened starts are distinct if some term's f_r differs by more than this (decades).
 const DISTINCT_DEC: f64 = 0.3;
@@ -38,13 +43,20 @@ fn shapes(kind: TermKind) -> Vec<Term> {
     }
 }
 
+fn per_decade(kind: TermKind) -> f64 {
+    match kind {
+        TermKind::Lorentz => PER_DECADE,
+        _ => RELAXATION_PER_DECADE,
+    }
+}
+
 /// Unit-amplitude candidate terms of one kind: every shape at every grid frequency.
 fn candidates(kind: TermKind, f_lo: f64, f_hi: f64) -> Vec<Term> {
     let (a, b) = (
         f_lo.log10() - BEYOND_BAND_DEC,
         f_hi.log10() + BEYOND_BAND_DEC,
     );
-    let n = ((b - a) * PER_DECADE).ceil() as usize + 1;
+    let n = ((b - a) * per_decade(kind)).ceil() as usize + 1;
     let freqs: Vec<f64> = (0..n)
         .map(|i| 10f64.powf(a + (b - a) * i as f64 / (n - 1) as f64))
         .collect();
@@ -56,52 +68,76 @@ fn candidates(kind: TermKind, f_lo: f64, f_hi: f64) -> Vec<Term> {
 
 /// Inner products of the weighted basis columns with each other and with the data.
 struct Gram {
-    g: Vec<Vec<f64>>,
+    /// Row-major n×n; only the entries `pair` allows (and the diagonal) are computed.
+    g: Vec<f64>,
+    n: usize,
     h: Vec<f64>,
     bb: f64,
 }
 
-/// Only the entries `pair(i, j)` says can occur together in one model are computed (the
-/// others stay 0 and are never read).
+impl Gram {
+    fn at(&self, i: usize, j: usize) -> f64 {
+        self.g[i * self.n + j]
+    }
+}
+
+/// The Gram matrix of the unit terms `units` (and, with `constant`, of the column 1 after
+/// them) under the weights 1/|μ|, against the data less `data_offset`. Only the entries
+/// `pair(i, j)` says can occur together in one model are computed (the others stay 0 and are
+/// never read). Columns are real (real parts of all points, then imaginary parts), built by
+/// the terms' vectorised loops.
 fn gram(
+    freq_hz: &[f64],
     mu: &[C64],
-    cols: &[Vec<C64>],
+    units: &[Term],
+    constant: bool,
     data_offset: f64,
     pair: &dyn Fn(usize, usize) -> bool,
 ) -> Gram {
-    let w: Vec<f64> = mu.iter().map(|m| 1.0 / m.norm()).collect();
-    let b: Vec<C64> = mu
-        .iter()
-        .zip(&w)
-        .map(|(m, w)| (m - data_offset) * w)
-        .collect();
-    let wc: Vec<Vec<C64>> = cols
-        .iter()
-        .map(|c| c.iter().zip(&w).map(|(v, w)| v * w).collect())
-        .collect();
-    // Re⟨a,b⟩ over complex columns = the real inner product of [Re; Im] columns.
-    let dot = |a: &[C64], b: &[C64]| {
-        a.iter()
-            .zip(b)
-            .map(|(x, y)| x.re * y.re + x.im * y.im)
-            .sum::<f64>()
+    let m = freq_hz.len();
+    let w: Vec<f64> = mu.iter().map(|v| 1.0 / v.norm()).collect();
+    let weighted = |mut col: Vec<f64>| {
+        let (re, im) = col.split_at_mut(m);
+        for ((r, i), wi) in re.iter_mut().zip(im.iter_mut()).zip(&w) {
+            *r *= wi;
+            *i *= wi;
+        }
+        col
     };
-    let n = wc.len();
-    let mut g = vec![vec![0.0; n]; n];
+    let mut cols: Vec<Vec<f64>> = units
+        .iter()
+        .map(|t| {
+            let mut col = vec![0.0; 2 * m];
+            let (re, im) = col.split_at_mut(m);
+            t.accumulate_columns(freq_hz, re, im, None);
+            weighted(col)
+        })
+        .collect();
+    if constant {
+        cols.push(weighted([vec![1.0; m], vec![0.0; m]].concat()));
+    }
+    let b = weighted(
+        mu.iter()
+            .map(|v| v.re - data_offset)
+            .chain(mu.iter().map(|v| v.im))
+            .collect(),
+    );
+    let n = cols.len();
+    let mut g = vec![0.0; n * n];
     for i in 0..n {
         for j in 0..=i {
             if i == j || pair(i, j) {
-                let v = dot(&wc[i], &wc[j]);
-                g[i][j] = v;
-                g[j][i] = v;
+                let v = dot(&cols[i], &cols[j]);
+                g[i * n + j] = v;
+                g[j * n + i] = v;
             }
         }
     }
-    let h = wc.iter().map(|c| dot(c, &b)).collect();
     Gram {
-        g,
-        h,
+        h: cols.iter().map(|c| dot(c, &b)).collect(),
         bb: dot(&b, &b),
+        g,
+        n,
     }
 }
 
@@ -112,34 +148,92 @@ const MAX_UNKNOWNS: usize = 5;
 const GRID_POINTS: usize = 100;
 /// Most combinations the full grid screen visits (two terms of any kinds fit well within it).
 const MAX_COMBINATIONS: f64 = 50_000.0;
+/// A column whose part outside the span of the columns chosen before it has less than this
+/// fraction of its squared norm is treated as dependent on them (Cholesky pivot test, Golub &
+/// Van Loan §4.2).
+const DEPENDENT: f64 = 1e-12;
 
-/// Solve the first `n` rows of the small symmetric positive-definite system A·x = b by Cholesky
-/// (Golub & Van Loan §4.2); `None` when a pivot falls below 1e-12 of its diagonal entry, i.e.
-/// the chosen columns are numerically dependent.
-fn solve_small(
-    n: usize,
-    a: &[[f64; MAX_UNKNOWNS]; MAX_UNKNOWNS],
-    b: &[f64; MAX_UNKNOWNS],
-) -> Option<[f64; MAX_UNKNOWNS]> {
-    let mut l = [[0.0; MAX_UNKNOWNS]; MAX_UNKNOWNS];
-    for j in 0..n {
-        let d = a[j][j] - (0..j).map(|k| l[j][k] * l[j][k]).sum::<f64>();
-        if !(d > 1e-12 * a[j][j]) {
-            return None;
+/// The Cholesky factorisation of the chosen columns' Gram matrix, grown one column per level of
+/// the enumeration: a model that shares its first columns with the previous one reuses their
+/// rows, so each visited model costs one new row and a back-substitution.
+struct Partial {
+    /// Column index of each level.
+    idx: [usize; MAX_UNKNOWNS],
+    /// Lower factor L, row by row.
+    l: [[f64; MAX_UNKNOWNS]; MAX_UNKNOWNS],
+    /// L⁻¹·(Aᵀb) of the chosen columns.
+    y: [f64; MAX_UNKNOWNS],
+}
+
+impl Partial {
+    /// Put column `c` at level `t` (levels below t chosen); false if it depends on them.
+    fn push(&mut self, gm: &Gram, t: usize, c: usize) -> bool {
+        let mut d = gm.at(c, c);
+        let mut yt = gm.h[c];
+        for k in 0..t {
+            let mut v = gm.at(c, self.idx[k]);
+            for j in 0..k {
+                v -= self.l[t][j] * self.l[k][j];
+            }
+            let lk = v / self.l[k][k];
+            self.l[t][k] = lk;
+            d -= lk * lk;
+            yt -= lk * self.y[k];
         }
-        l[j][j] = d.sqrt();
-        for i in j + 1..n {
-            l[i][j] = (a[i][j] - (0..j).map(|k| l[i][k] * l[j][k]).sum::<f64>()) / l[j][j];
+        if !(d > DEPENDENT * gm.at(c, c)) {
+            return false;
+        }
+        let ltt = d.sqrt();
+        self.l[t][t] = ltt;
+        self.y[t] = yt / ltt;
+        self.idx[t] = c;
+        true
+    }
+
+    /// The amplitudes of the first `m` levels (Lᵀx = y) and the cost ½(bᵀb − yᵀy).
+    fn solve(&self, gm: &Gram, m: usize) -> ([f64; MAX_UNKNOWNS], f64) {
+        let mut x = [0.0; MAX_UNKNOWNS];
+        for i in (0..m).rev() {
+            let mut v = self.y[i];
+            for k in i + 1..m {
+                v -= self.l[k][i] * x[k];
+            }
+            x[i] = v / self.l[i][i];
+        }
+        let explained: f64 = self.y[..m].iter().map(|v| v * v).sum();
+        (x, 0.5 * (gm.bb - explained))
+    }
+}
+
+/// The screen's walk over the combinations: the growing factor and the best models so far
+/// (column per level, amplitudes, cost), lowest cost first.
+struct Search<'a> {
+    gm: &'a Gram,
+    partial: Partial,
+    /// Level of the first term (1 when μ∞'s column is level 0), and levels in all.
+    first: usize,
+    m: usize,
+    keep: usize,
+    best: Vec<([usize; MAX_UNKNOWNS], [f64; MAX_UNKNOWNS], f64)>,
+}
+
+impl Visitor for Search<'_> {
+    fn push(&mut self, t: usize, c: usize) -> bool {
+        self.partial.push(self.gm, self.first + t, c)
+    }
+
+    fn leaf(&mut self) {
+        let (x, cost) = self.partial.solve(self.gm, self.m);
+        if x[self.first..self.m].iter().any(|&v| !(v > 0.0)) {
+            return;
+        }
+        let best = &mut self.best;
+        if best.len() < self.keep || cost < best[best.len() - 1].2 {
+            let at = best.partition_point(|s| s.2 <= cost);
+            best.insert(at, (self.partial.idx, x, cost));
+            best.truncate(self.keep);
         }
     }
-    let mut x = [0.0; MAX_UNKNOWNS];
-    for i in 0..n {
-        x[i] = (b[i] - (0..i).map(|k| l[i][k] * x[k]).sum::<f64>()) / l[i][i];
-    }
-    for i in (0..n).rev() {
-        x[i] = (x[i] - (i + 1..n).map(|k| l[k][i] * x[k]).sum::<f64>()) / l[i][i];
-    }
-    x[..n].iter().all(|v| v.is_finite()).then_some(x)
 }
 
 /// A screened model and its cost ½Σr² at the linear optimum of its amplitudes.
@@ -162,7 +256,8 @@ fn screen(
     free_mu_inf: bool,
     keep: usize,
 ) -> Vec<Screened> {
-    if term_list.len() + usize::from(free_mu_inf) > MAX_UNKNOWNS {
+    let n = term_list.len();
+    if n + usize::from(free_mu_inf) > MAX_UNKNOWNS {
         return Vec::new();
     }
     let mut ranges = Vec::new();
@@ -171,14 +266,7 @@ fn screen(
         ranges.push((units.len(), units.len() + l.len()));
         units.extend_from_slice(l);
     }
-    let mut cols: Vec<Vec<C64>> = units
-        .iter()
-        .map(|t| freq_hz.iter().map(|&f| t.value(f)).collect())
-        .collect();
-    let constant = cols.len();
-    if free_mu_inf {
-        cols.push(vec![C64::new(1.0, 0.0); freq_hz.len()]);
-    }
+    let constant = units.len();
     // Which list each column belongs to (the constant: its own), and how many terms use a list:
     // two columns meet in a model only if their lists differ or two terms share the list.
     let mut list_of: Vec<usize> = ranges
@@ -189,51 +277,38 @@ fn screen(
     list_of.push(usize::MAX);
     let users = |l: usize| term_list.iter().filter(|&&t| t == l).count();
     let pair = |i: usize, j: usize| list_of[i] != list_of[j] || users(list_of[i]) > 1;
-    let gm = gram(mu, &cols, if free_mu_inf { 0.0 } else { mu_inf }, &pair);
-    let n = term_list.len();
+    let offset = if free_mu_inf { 0.0 } else { mu_inf };
+    let gm = gram(freq_hz, mu, &units, free_mu_inf, offset, &pair);
+    // μ∞'s constant column, when free, is level 0 of every model; the terms follow.
+    let first = usize::from(free_mu_inf);
+    let m = n + first;
+    let mut partial = Partial {
+        idx: [0; MAX_UNKNOWNS],
+        l: [[0.0; MAX_UNKNOWNS]; MAX_UNKNOWNS],
+        y: [0.0; MAX_UNKNOWNS],
+    };
+    if free_mu_inf && !partial.push(&gm, 0, constant) {
+        return Vec::new();
+    }
     let term_ranges: Vec<(usize, usize)> = term_list.iter().map(|&l| ranges[l]).collect();
-    let mut best: Vec<(Vec<usize>, Vec<f64>, f64)> = Vec::new();
-    enumerate(
-        &term_ranges,
-        term_list,
-        0,
-        &mut vec![0; n],
-        &mut |sel: &[usize]| {
-            let mut idx = [constant; MAX_UNKNOWNS];
-            idx[..n].copy_from_slice(sel);
-            let m = n + usize::from(free_mu_inf);
-            let mut a = [[0.0; MAX_UNKNOWNS]; MAX_UNKNOWNS];
-            let mut b = [0.0; MAX_UNKNOWNS];
-            for i in 0..m {
-                b[i] = gm.h[idx[i]];
-                for j in 0..m {
-                    a[i][j] = gm.g[idx[i]][idx[j]];
-                }
-            }
-            let Some(x) = solve_small(m, &a, &b) else {
-                return;
-            };
-            if x[..n].iter().any(|&v| !(v > 0.0)) {
-                return;
-            }
-            let cost = 0.5 * (gm.bb - (0..m).map(|i| x[i] * b[i]).sum::<f64>());
-            if best.len() < keep || cost < best[best.len() - 1].2 {
-                let at = best.partition_point(|s| s.2 <= cost);
-                best.insert(at, (idx[..m].to_vec(), x[..m].to_vec(), cost));
-                best.truncate(keep);
-            }
-        },
-    );
+    let mut search = Search {
+        gm: &gm,
+        partial,
+        first,
+        m,
+        keep,
+        best: Vec::new(),
+    };
+    enumerate(&term_ranges, term_list, 0, &mut vec![0; n], &mut search);
+    let best = search.best;
     best.into_iter()
         .map(|(idx, x, cost)| Screened {
             model: Model {
-                mu_inf: if free_mu_inf { x[n] } else { mu_inf },
-                terms: idx[..n]
-                    .iter()
-                    .zip(&x)
-                    .map(|(&c, &a)| Term {
-                        delta_mu: a,
-                        ..units[c]
+                mu_inf: if free_mu_inf { x[0] } else { mu_inf },
+                terms: (first..m)
+                    .map(|k| Term {
+                        delta_mu: x[k],
+                        ..units[idx[k]]
                     })
                     .collect(),
             },
@@ -330,6 +405,7 @@ pub fn best_extension(
         .collect();
     lists.push(candidates(kind, f_lo, f_hi));
     let term_list: Vec<usize> = (0..lists.len()).collect();
+    let (freq_hz, mu) = &thinned(freq_hz, mu, GRID_POINTS);
     screen(
         freq_hz,
         mu,
@@ -343,17 +419,24 @@ pub fn best_extension(
     .next()
 }
 
-/// Call `visit` with every choice of one column per term; terms drawing from the same list
-/// take columns in increasing order.
+/// What [`enumerate`] reports to: `push(t, c)` places column c for term t (false: skip it, it
+/// cannot be used with the columns before it), `leaf()` sees each complete choice.
+trait Visitor {
+    fn push(&mut self, t: usize, c: usize) -> bool;
+    fn leaf(&mut self);
+}
+
+/// Visit every choice of one column per term; terms drawing from the same list take columns in
+/// increasing order.
 fn enumerate(
     ranges: &[(usize, usize)],
     term_list: &[usize],
     t: usize,
     pick: &mut Vec<usize>,
-    visit: &mut dyn FnMut(&[usize]),
+    visitor: &mut dyn Visitor,
 ) {
     if t == term_list.len() {
-        visit(pick);
+        visitor.leaf();
         return;
     }
     let (lo, hi) = ranges[t];
@@ -363,7 +446,9 @@ fn enumerate(
         .map_or(lo, |s| pick[s] + 1);
     for c in from..hi {
         pick[t] = c;
-        enumerate(ranges, term_list, t + 1, pick, visit);
+        if visitor.push(t, c) {
+            enumerate(ranges, term_list, t + 1, pick, visitor);
+        }
     }
 }
 
@@ -392,7 +477,7 @@ mod tests {
         assert!(!s.is_empty());
         for (got, want) in s[0].terms.iter().zip(&truth.terms) {
             assert!(
-                (got.f_hz / want.f_hz).log10().abs() <= 0.5 / PER_DECADE + 1e-9,
+                (got.f_hz / want.f_hz).log10().abs() <= 0.5 / per_decade(got.kind) + 1e-9,
                 "{got:?} vs {want:?}"
             );
         }
@@ -401,14 +486,19 @@ mod tests {
     /// Two identical kinds are visited once per unordered pair.
     #[test]
     fn identical_kinds_are_not_permuted() {
-        let mut seen = Vec::new();
-        enumerate(
-            &[(0, 4), (0, 4)],
-            &[0, 0],
-            0,
-            &mut vec![0; 2],
-            &mut |s: &[usize]| seen.push(s.to_vec()),
-        );
+        struct Record(Vec<Vec<usize>>, [usize; 2]);
+        impl Visitor for Record {
+            fn push(&mut self, t: usize, c: usize) -> bool {
+                self.1[t] = c;
+                true
+            }
+            fn leaf(&mut self) {
+                self.0.push(self.1.to_vec());
+            }
+        }
+        let mut rec = Record(Vec::new(), [0; 2]);
+        enumerate(&[(0, 4), (0, 4)], &[0, 0], 0, &mut vec![0; 2], &mut rec);
+        let seen = rec.0;
         assert_eq!(seen.len(), 6);
         assert!(seen.iter().all(|s| s[0] < s[1]));
     }
