@@ -155,7 +155,8 @@ impl Data {
         Data {
             freq_hz: freq_hz.to_vec(),
             mu: mu.to_vec(),
-            weight: mu.iter().map(|m| 1.0 / m.norm()).collect(),
+            // √(re² + im²) rather than hypot: μ was checked finite and non-zero.
+            weight: mu.iter().map(|m| 1.0 / m.norm_sqr().sqrt()).collect(),
         }
     }
     /// Every k-th point (and the last), about `most` of them: the linear fit needs far fewer
@@ -258,7 +259,11 @@ impl Scored {
             .collect();
         let n = residuals.len() as f64;
         let rms = (residuals.iter().map(|r| r.norm_sqr()).sum::<f64>() / (2.0 * n)).sqrt();
-        let max = residuals.iter().map(|r| r.norm()).fold(0.0, f64::max);
+        let max = residuals
+            .iter()
+            .map(|r| r.norm_sqr())
+            .fold(0.0, f64::max)
+            .sqrt();
         let drift = drift(&residuals);
         Scored {
             fit,

@@ -66,33 +66,51 @@ fn candidates(kind: TermKind, f_lo: f64, f_hi: f64) -> Vec<Term> {
         .collect()
 }
 
-/// Inner products of the weighted basis columns with each other and with the data.
+/// Inner products of the weighted basis columns with each other and with the data. The columns
+/// come in groups (one per candidate list, and μ∞'s constant); products between two groups
+/// are kept as one block, and only for groups that can meet in one model.
 struct Gram {
-    /// Row-major n×n; only the entries `pair` allows (and the diagonal) are computed.
-    g: Vec<f64>,
-    n: usize,
+    /// Group and position within it of each column.
+    group: Vec<usize>,
+    offset: Vec<usize>,
+    /// Columns per group.
+    len: Vec<usize>,
+    /// Block (a, b), a > b or a = b, row-major len[a]×len[b], at a·groups + b; empty if the
+    /// groups never meet.
+    blocks: Vec<Vec<f64>>,
+    diag: Vec<f64>,
     h: Vec<f64>,
     bb: f64,
 }
 
 impl Gram {
     fn at(&self, i: usize, j: usize) -> f64 {
-        self.g[i * self.n + j]
+        if i == j {
+            return self.diag[i];
+        }
+        let (i, j) = if self.group[i] >= self.group[j] {
+            (i, j)
+        } else {
+            (j, i)
+        };
+        let (a, b) = (self.group[i], self.group[j]);
+        self.blocks[a * self.len.len() + b][self.offset[i] * self.len[b] + self.offset[j]]
     }
 }
 
-/// The Gram matrix of the unit terms `units` (and, with `constant`, of the column 1 after
-/// them) under the weights 1/|μ|, against the data less `data_offset`. Only the entries
-/// `pair(i, j)` says can occur together in one model are computed (the others stay 0 and are
-/// never read). Columns are real (real parts of all points, then imaginary parts), built by
-/// the terms' vectorised loops.
+/// The Gram matrix of the unit terms `units`, grouped by `groups` (ranges of `units`), and,
+/// with `constant`, of the column 1 as one more group, under the weights 1/|μ|, against the
+/// data less `data_offset`. Products between groups a and b are formed only if `meet(a, b)`
+/// (a ≥ b). Columns are real (real parts of all points, then imaginary parts), built by the
+/// terms' vectorised loops.
 fn gram(
     freq_hz: &[f64],
     mu: &[C64],
     units: &[Term],
+    groups: &[(usize, usize)],
     constant: bool,
     data_offset: f64,
-    pair: &dyn Fn(usize, usize) -> bool,
+    meet: &dyn Fn(usize, usize) -> bool,
 ) -> Gram {
     let m = freq_hz.len();
     let w: Vec<f64> = mu.iter().map(|v| 1.0 / v.norm()).collect();
@@ -113,7 +131,9 @@ fn gram(
             weighted(col)
         })
         .collect();
+    let mut groups = groups.to_vec();
     if constant {
+        groups.push((cols.len(), cols.len() + 1));
         cols.push(weighted([vec![1.0; m], vec![0.0; m]].concat()));
     }
     let b = weighted(
@@ -122,22 +142,36 @@ fn gram(
             .chain(mu.iter().map(|v| v.im))
             .collect(),
     );
-    let n = cols.len();
-    let mut g = vec![0.0; n * n];
-    for i in 0..n {
-        for j in 0..=i {
-            if i == j || pair(i, j) {
-                let v = dot(&cols[i], &cols[j]);
-                g[i * n + j] = v;
-                g[j * n + i] = v;
+    let ng = groups.len();
+    let mut group = vec![0; cols.len()];
+    let mut offset = vec![0; cols.len()];
+    for (g, &(lo, hi)) in groups.iter().enumerate() {
+        for c in lo..hi {
+            group[c] = g;
+            offset[c] = c - lo;
+        }
+    }
+    let mut blocks = vec![Vec::new(); ng * ng];
+    for (a, &(alo, ahi)) in groups.iter().enumerate() {
+        for (bg, &(blo, bhi)) in groups.iter().enumerate().take(a + 1) {
+            if !meet(a, bg) {
+                continue;
             }
+            let mut block = Vec::with_capacity((ahi - alo) * (bhi - blo));
+            for i in alo..ahi {
+                block.extend((blo..bhi).map(|j| dot(&cols[i], &cols[j])));
+            }
+            blocks[a * ng + bg] = block;
         }
     }
     Gram {
+        len: groups.iter().map(|(lo, hi)| hi - lo).collect(),
+        diag: cols.iter().map(|c| dot(c, c)).collect(),
         h: cols.iter().map(|c| dot(c, &b)).collect(),
         bb: dot(&b, &b),
-        g,
-        n,
+        group,
+        offset,
+        blocks,
     }
 }
 
@@ -267,18 +301,12 @@ fn screen(
         units.extend_from_slice(l);
     }
     let constant = units.len();
-    // Which list each column belongs to (the constant: its own), and how many terms use a list:
-    // two columns meet in a model only if their lists differ or two terms share the list.
-    let mut list_of: Vec<usize> = ranges
-        .iter()
-        .enumerate()
-        .flat_map(|(l, &(a, b))| std::iter::repeat(l).take(b - a))
-        .collect();
-    list_of.push(usize::MAX);
+    // Two lists meet in a model if they differ or two terms draw from the same list; μ∞'s
+    // constant (the group after the lists) meets every list.
     let users = |l: usize| term_list.iter().filter(|&&t| t == l).count();
-    let pair = |i: usize, j: usize| list_of[i] != list_of[j] || users(list_of[i]) > 1;
+    let meet = |a: usize, b: usize| a != b || (a < lists.len() && users(a) > 1);
     let offset = if free_mu_inf { 0.0 } else { mu_inf };
-    let gm = gram(freq_hz, mu, &units, free_mu_inf, offset, &pair);
+    let gm = gram(freq_hz, mu, &units, &ranges, free_mu_inf, offset, &meet);
     // μ∞'s constant column, when free, is level 0 of every model; the terms follow.
     let first = usize::from(free_mu_inf);
     let m = n + first;
@@ -405,7 +433,6 @@ pub fn best_extension(
         .collect();
     lists.push(candidates(kind, f_lo, f_hi));
     let term_list: Vec<usize> = (0..lists.len()).collect();
-    let (freq_hz, mu) = &thinned(freq_hz, mu, GRID_POINTS);
     screen(
         freq_hz,
         mu,
