@@ -5,7 +5,7 @@
 //! evaluation into reused buffers); cost = ½Σr². Each iteration solves the damped
 //! normal equations (JᵀJ + λ·diag(D²)) h = −Jᵀr with Marquardt's scaling D² = diag(JᵀJ), kept as
 //! the running maximum over iterations as in MINPACK (Moré, "The Levenberg–Marquardt algorithm:
-//! implementation and theory", Lecture Notes in Math. 630, 1978), so the method is invariant to
+//! implementation and theory", Springer LNM 630, 1978), so the method is invariant to
 //! the units of each parameter. λ follows Nielsen's gain-ratio update (Madsen, Nielsen &
 //! Tingleff, "Methods for non-linear least squares problems", DTU 2004, §3.2): on success
 //! λ ← λ·max(⅓, 1 − (2ρ − 1)³), ν ← 2; on failure λ ← λ·ν, ν ← 2ν.

@@ -234,7 +234,7 @@ mod tests {
 
     #[test]
     fn svg_has_both_panels_and_the_legend() {
-        super::super::font::ensure_png_font().unwrap();
+        super::super::font::ensure_font().unwrap();
         let (f, m, y) = data();
         let svg = render_svg(&FitPlot {
             freq_hz: &f,

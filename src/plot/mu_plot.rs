@@ -171,7 +171,7 @@ mod tests {
             valid: (1e6, 1e8),
             title: "test",
         };
-        super::super::font::ensure_png_font().unwrap();
+        super::super::font::ensure_font().unwrap();
         let svg = render_svg(&plot).unwrap();
         assert!(svg.contains("frequency (Hz)") && svg.contains("μ″") && svg.contains("valid band"));
         assert!(svg.contains("<polyline") || svg.contains("<path"));

@@ -27,7 +27,7 @@ pub fn write_figure(path: &Path, fig: &impl Figure) -> Result<(), PlotError> {
             .hint("e.g. --plot mu.svg")
             .into());
     }
-    super::font::ensure_png_font()?;
+    super::font::ensure_font()?;
     if ext == "svg" {
         let svg = render_svg(fig)?;
         return crate::fsutil::write_atomic(path, svg.as_bytes()).map_err(|e| PlotError(e.0));

@@ -11,7 +11,7 @@ static FONT: &[u8] = include_bytes!("DejaVuSans-subset.ttf");
 static REGISTERED: OnceLock<bool> = OnceLock::new();
 
 /// Make "sans-serif" available to every backend. Idempotent; called before drawing.
-pub fn ensure_png_font() -> Result<(), PlotError> {
+pub fn ensure_font() -> Result<(), PlotError> {
     let ok = *REGISTERED.get_or_init(|| {
         plotters::style::register_font("sans-serif", plotters::style::FontStyle::Normal, FONT).is_ok()
     });
@@ -29,6 +29,6 @@ pub fn ensure_png_font() -> Result<(), PlotError> {
 mod tests {
     #[test]
     fn built_in_font_registers() {
-        assert!(super::ensure_png_font().is_ok());
+        assert!(super::ensure_font().is_ok());
     }
 }
