@@ -42,9 +42,11 @@ pub const BIC_VERY_STRONG: f64 = 10.0;
 const FEATURE_STARTS: usize = 3;
 const GRID_STARTS: usize = 3;
 /// Points kept for screening the starts, their looser tolerances, and how many screened optima
-/// are run to convergence on all the data.
+/// are run to convergence on all the data. Screening only ranks basins: 1e-5 picks the same
+/// optima as 1e-7 on the 200-sweep bench lot in three quarters of the time (fewer points lose
+/// the needle-sharp optimum the auto-choice tests rely on).
 const SCREEN_POINTS: usize = 200;
-const SCREEN_TOL: f64 = 1e-7;
+const SCREEN_TOL: f64 = 1e-5;
 const POLISHED: usize = 2;
 /// A second screened optimum is polished too only if its screened cost is within this factor of
 /// the best one's (the decimated data rank optima as the full data do, up to noise).
