@@ -120,7 +120,22 @@ pub const DEPENDENT_PIVOT: f64 = 1e-12;
 /// Σ aᵢbᵢ with independent partial sums, so the compiler can vectorise it (a single running sum
 /// cannot be reordered).
 pub fn dot(a: &[f64], b: &[f64]) -> f64 {
-    ndarray::aview1(a).dot(&ndarray::aview1(b))
+    let n = a.len().min(b.len());
+    let (a, b) = (&a[..n], &b[..n]);
+    let mut acc = [0.0f64; 8];
+    let (ca, cb) = (a.chunks_exact(8), b.chunks_exact(8));
+    let tail: f64 = ca
+        .remainder()
+        .iter()
+        .zip(cb.remainder())
+        .map(|(x, y)| x * y)
+        .sum();
+    for (x, y) in ca.zip(cb) {
+        for k in 0..8 {
+            acc[k] += x[k] * y[k];
+        }
+    }
+    ((acc[0] + acc[4]) + (acc[2] + acc[6])) + ((acc[1] + acc[5]) + (acc[3] + acc[7])) + tail
 }
 
 /// Cholesky factor of a Gram matrix G = AᵀA for the normal equations AᵀA·x = Aᵀb, for small

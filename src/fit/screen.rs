@@ -224,8 +224,13 @@ impl Partial {
         true
     }
 
-    /// The amplitudes of the first `m` levels (Lᵀx = y) and the cost ½(bᵀb − yᵀy).
-    fn solve(&self, gm: &Gram, m: usize) -> ([f64; MAX_UNKNOWNS], f64) {
+    /// The cost ½(bᵀb − yᵀy) of the least-squares fit by the first `m` levels.
+    fn cost(&self, gm: &Gram, m: usize) -> f64 {
+        0.5 * (gm.bb - self.y[..m].iter().map(|v| v * v).sum::<f64>())
+    }
+
+    /// The amplitudes of the first `m` levels: Lᵀx = y.
+    fn amplitudes(&self, m: usize) -> [f64; MAX_UNKNOWNS] {
         let mut x = [0.0; MAX_UNKNOWNS];
         for i in (0..m).rev() {
             let mut v = self.y[i];
@@ -234,8 +239,7 @@ impl Partial {
             }
             x[i] = v / self.l[i][i];
         }
-        let explained: f64 = self.y[..m].iter().map(|v| v * v).sum();
-        (x, 0.5 * (gm.bb - explained))
+        x
     }
 }
 
@@ -257,16 +261,19 @@ impl Visitor for Search<'_> {
     }
 
     fn leaf(&mut self) {
-        let (x, cost) = self.partial.solve(self.gm, self.m);
+        let cost = self.partial.cost(self.gm, self.m);
+        let best = &mut self.best;
+        // Most models lose on cost alone; only those that would be kept are solved.
+        if best.len() >= self.keep && best.last().map_or(true, |w| !(cost < w.2)) {
+            return;
+        }
+        let x = self.partial.amplitudes(self.m);
         if x[self.first..self.m].iter().any(|&v| !(v > 0.0)) {
             return;
         }
-        let best = &mut self.best;
-        if best.len() < self.keep || cost < best[best.len() - 1].2 {
-            let at = best.partition_point(|s| s.2 <= cost);
-            best.insert(at, (self.partial.idx, x, cost));
-            best.truncate(self.keep);
-        }
+        let at = best.partition_point(|s| s.2 <= cost);
+        best.insert(at, (self.partial.idx, x, cost));
+        best.truncate(self.keep);
     }
 }
 
