@@ -465,7 +465,7 @@ fn validate(freq_hz: &[f64], mu: &[C64]) -> Result<(), FitError> {
     }
     if let Some(i) = mu
         .iter()
-        .position(|m| !(m.re.is_finite() && m.im.is_finite() && m.norm() > 0.0))
+        .position(|m| !(m.re.is_finite() && m.im.is_finite() && m.norm_sqr() > 0.0))
     {
         return fail(
             format!("permeability at {} Hz is {}", freq_hz[i], mu[i]),
