@@ -20,6 +20,7 @@ use super::lm::{covariance, minimize, LmConfig, LmOutcome};
 use super::problem::MuProblem;
 use super::report::{FitStats, RunnerUp};
 use super::screen;
+use super::serial;
 use super::start;
 use super::transform::Transform;
 use super::FitError;
@@ -127,7 +128,36 @@ pub fn param_labels(kinds: &[TermKind]) -> Vec<String> {
 }
 
 /// Fit `kinds` to `mu` (μ′ − jμ″ at `freq_hz`) from the data's own starts; the best optimum.
+///
+/// A dense sweep is first fitted from the most plausible start alone (screened on the thinned
+/// data, then run on all of it); if that fit's residuals are white ([`serial::is_white`]), no
+/// systematic misfit is left for another start to remove and the multi-start is skipped.
+/// Otherwise the multi-start runs, and the better of the two optima is kept.
 pub fn fit_model(
+    freq_hz: &[f64],
+    mu: &[C64],
+    kinds: &[TermKind],
+    opts: &FitOptions,
+) -> Result<FitOutcome, FitError> {
+    let quick = quick_fit(freq_hz, mu, kinds, opts);
+    if let Some(q) = quick.as_ref().filter(|q| serial::is_white(&q.residuals)) {
+        return Ok(q.clone());
+    }
+    let full = fit_all_starts(freq_hz, mu, kinds, opts)?;
+    Ok(match quick {
+        Some(q) if q.stats.cost < full.stats.cost => FitOutcome {
+            starts_tried: full.starts_tried,
+            best_start: 0,
+            ..q
+        },
+        _ => full,
+    })
+}
+
+/// Fit `kinds` from every start of [`starts_for`]; the best optimum. Model choice compares
+/// candidates by their likelihood, so each gets all starts: a fit can be free of systematic
+/// misfit and still not be the lowest cost its family reaches.
+pub fn fit_all_starts(
     freq_hz: &[f64],
     mu: &[C64],
     kinds: &[TermKind],
@@ -135,6 +165,26 @@ pub fn fit_model(
 ) -> Result<FitOutcome, FitError> {
     let starts = starts_for(freq_hz, mu, kinds, opts);
     fit_from_starts(freq_hz, mu, kinds, &starts, opts)
+}
+
+/// The fit from the first start of [`start::starts`] alone, for sweeps of at least
+/// [`serial::MIN_POINTS`] frequencies.
+fn quick_fit(
+    freq_hz: &[f64],
+    mu: &[C64],
+    kinds: &[TermKind],
+    opts: &FitOptions,
+) -> Option<FitOutcome> {
+    if freq_hz.len() < serial::MIN_POINTS {
+        return None;
+    }
+    let (fs, ms) = thinned(freq_hz, mu, SCREEN_POINTS);
+    let primary = start::starts(&fs, &ms, kinds, opts.mu_inf).into_iter().next()?;
+    let small = MuProblem::new(fs, ms, kinds.to_vec(), opts.free_mu_inf, opts.mu_inf).ok()?;
+    let pre = minimize(small.clone(), small.to_internal(&primary), &screen_config(opts))
+        .ok()
+        .filter(|o| o.cost.is_finite())?;
+    fit_from_starts(freq_hz, mu, kinds, &[small.to_model(&pre.params)], opts).ok()
 }
 
 /// The starts [`fit_model`] runs from, most plausible first: those read from the spectrum's
@@ -565,7 +615,7 @@ pub fn fit_auto(freq_hz: &[f64], mu: &[C64], opts: &FitOptions) -> Result<AutoOu
     let results: Vec<(Vec<TermKind>, Result<FitOutcome, FitError>)> = auto_candidates()
         .into_par_iter()
         .map(|k| {
-            let r = fit_model(freq_hz, mu, &k, opts);
+            let r = fit_all_starts(freq_hz, mu, &k, opts);
             (k, r)
         })
         .collect();

@@ -13,6 +13,7 @@ pub mod problem;
 pub mod report;
 pub mod sanity;
 pub mod screen;
+pub mod serial;
 pub mod source;
 pub mod start;
 pub mod summary;
