@@ -118,6 +118,8 @@ struct ScipyRef {
     scipy_version: String,
     #[serde(default)]
     measured_utc: Option<String>,
+    #[serde(default)]
+    load_average_1min: Option<ScipyLoad>,
     lot: ScipyLot,
     timing_s: ScipyTiming,
     sweeps: Vec<ScipySweep>,
@@ -129,6 +131,12 @@ struct ScipyLot {
     points: usize,
     seed: u64,
     noise_rel: f64,
+}
+
+#[derive(serde::Deserialize)]
+struct ScipyLoad {
+    before: f64,
+    after: f64,
 }
 
 #[derive(serde::Deserialize)]
@@ -150,6 +158,16 @@ fn read_scipy(path: &Path) -> Result<ScipyRef, Failure> {
             path.display()
         ))
     })
+}
+
+/// The 1-minute load average, where the system reports it (Linux), for context beside timings.
+fn load_now() -> String {
+    std::fs::read_to_string("/proc/loadavg")
+        .ok()
+        .and_then(|t| t.split_whitespace().next().map(str::to_string))
+        .map_or("load average unknown".to_string(), |l| {
+            format!("load average {l}")
+        })
 }
 
 fn verdict(met: bool) -> &'static str {
@@ -313,11 +331,20 @@ fn compare_with_scipy(
         seed: args.seed,
         noise_rel: args.noise,
     };
-    let when = r.measured_utc.as_deref().unwrap_or("at an unrecorded time");
+    let when = r
+        .measured_utc
+        .as_deref()
+        .map_or("at an unrecorded time".to_string(), |t| format!("at {t}"));
+    let load_then = r.load_average_1min.as_ref().map_or(String::new(), |l| {
+        format!(", load average {:.2}–{:.2}", l.before, l.after)
+    });
     println!(
         "scipy {} least_squares(method='lm') on this lot, from the same starts: {:.3} s of fitting \
-         (recorded by tests/reference/scipy_bench.py on this machine {when}; load then and now differ)",
-        r.scipy_version, r.timing_s.scipy_fits
+         (recorded by tests/reference/scipy_bench.py on this machine {when}{load_then}; now {}; \
+         other jobs on the machine change both figures)",
+        r.scipy_version,
+        r.timing_s.scipy_fits,
+        load_now()
     );
     if r.lot != ours || r.sweeps.len() != pipeline.len() {
         println!(
