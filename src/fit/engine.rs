@@ -410,7 +410,8 @@ pub fn fit_stats(res: &[C64], n_free: usize, iterations: usize) -> FitStats {
     FitStats {
         cost: 0.5 * rss,
         rms_rel: (rss / m).sqrt(),
-        max_rel: res.iter().map(|r| r.norm()).fold(0.0, f64::max),
+        // Largest |r| from the squares: hypot per point cost a tenth of a fit.
+        max_rel: res.iter().map(|r| r.norm_sqr()).fold(0.0, f64::max).sqrt(),
         chi2_reduced: rss / points.saturating_sub(n_free).max(1) as f64,
         aic: log_term + 2.0 * n_free as f64,
         bic: log_term + n_free as f64 * m.ln(),
@@ -428,11 +429,15 @@ fn external_covariance(problem: &MuProblem, out: &LmOutcome) -> Option<(Vec<usiz
     let keep: Vec<usize> = (0..n)
         .filter(|&i| !(Transform::of(names[i]) == Transform::Logistic && slopes[i] < PINNED_SLOPE))
         .collect();
-    let j = Array2::from_shape_fn((out.jacobian.nrows(), keep.len()), |(r, c)| {
-        out.jacobian[[r, keep[c]]]
-    });
     // Degrees of freedom count every fitted parameter, pinned or not.
-    let cov_int = covariance(&j, out.cost, n)?;
+    let cov_int = if keep.len() == n {
+        covariance(&out.jacobian, out.cost, n)?
+    } else {
+        let j = Array2::from_shape_fn((out.jacobian.nrows(), keep.len()), |(r, c)| {
+            out.jacobian[[r, keep[c]]]
+        });
+        covariance(&j, out.cost, n)?
+    };
     let g: Array1<f64> = keep.iter().map(|&i| slopes[i]).collect();
     Some((
         keep,
