@@ -181,7 +181,9 @@ fn quick_fit(
         return None;
     }
     let (fs, ms) = thinned(freq_hz, mu, SCREEN_POINTS);
-    let primary = start::starts(&fs, &ms, kinds, opts.mu_inf).into_iter().next()?;
+    let primary = start::starts(&fs, &ms, kinds, opts.mu_inf)
+        .into_iter()
+        .next()?;
     let small = MuProblem::new(fs, ms, kinds.to_vec(), opts.free_mu_inf, opts.mu_inf).ok()?;
     let cfg = LmConfig {
         ftol: QUICK_TOL,
