@@ -80,21 +80,26 @@ pub fn build_report(
     let (f_min_hz, f_max_hz) = sanity::band(&spectra).unwrap_or((0.0, 0.0));
     warnings.extend(physics.iter().cloned());
     findings.extend(physics);
-    let residuals = sources
+    // The fit's residuals are in merged order; the report lists them source by source.
+    let order = super::source::merge_order(sources);
+    let mut residuals = vec![ResidualPoint::default(); order.len()];
+    let sample_of: Vec<usize> = sources
         .iter()
         .enumerate()
-        .flat_map(|(sample, s)| {
-            s.freq_hz.iter().zip(&s.mu).map(move |(&f, m)| {
-                let r = (outcome.model.mu(f) - m) / m.norm();
-                ResidualPoint {
-                    freq_hz: f,
-                    re: r.re,
-                    im: r.im,
-                    sample,
-                }
-            })
-        })
+        .flat_map(|(sample, s)| std::iter::repeat(sample).take(s.freq_hz.len()))
         .collect();
+    let all_freq: Vec<f64> = sources
+        .iter()
+        .flat_map(|s| s.freq_hz.iter().copied())
+        .collect();
+    for (r, &g) in outcome.residuals.iter().zip(&order) {
+        residuals[g] = ResidualPoint {
+            freq_hz: all_freq[g],
+            re: r.re,
+            im: r.im,
+            sample: sample_of[g],
+        };
+    }
     FitReport {
         source: sources
             .iter()

@@ -10,8 +10,9 @@
 //! within the band, ln d logistic within [`DAMPING_RANGE`], so a resonance can neither leave the
 //! band nor become a line narrower than the data resolve.
 
+use super::dot::dot;
 use super::lm::{minimize, LeastSquares, LmConfig};
-use super::lstsq::{dot, NormalEquations};
+use super::lstsq::NormalEquations;
 use argmin::core::{Error, Jacobian, Operator};
 use ndarray::{Array1, Array2, ShapeBuilder};
 

@@ -31,7 +31,7 @@
 //! fit of thousands of residuals allocates nothing per iteration; ‖Jh‖² and the gradient test
 //! come from JᵀJ rather than from passes over the residuals.
 
-use super::normal_equations::{add_jac_times, gram, Cholesky};
+use super::normal_equations::{add_jac_times, gram, jac_t_times, Cholesky};
 use super::FitError;
 use crate::error::Diagnostic;
 use argmin::core::{
@@ -279,7 +279,7 @@ impl LevenbergMarquardt {
             return Ok(Some(v));
         }
         // a solves the damped system with −Jᵀr_vv on the right, r_vv = (2/t²)·c.
-        let a = chol.solve(&(pt.j.t().dot(&self.probe_r) * (-2.0 / (t * t))));
+        let a = chol.solve(&(jac_t_times(&pt.j, &self.probe_r) * (-2.0 / (t * t))));
         let ratio = 2.0 * norm(&(d * &a)) / norm(&(d * &v));
         Ok((ratio <= GEODESIC_MAX_RATIO).then(|| v + a * 0.5))
     }
@@ -308,7 +308,7 @@ impl Point {
                 p.len()
             )));
         }
-        let g = j.t().dot(&r);
+        let g = jac_t_times(&j, &r);
         let cost = half_sum_sq(&r);
         Ok(Point { p, r, j, g, cost })
     }

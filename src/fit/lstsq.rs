@@ -6,6 +6,8 @@
 //! Matrices are held as a list of columns (each column contiguous), the layout the Householder
 //! updates walk through.
 
+use super::dot::dot;
+
 /// Relative size below which a downdated column norm is recomputed: √ε, as LAPACK's dgeqp3.
 const DOWNDATE_TOL: f64 = 1.49e-8;
 
@@ -116,27 +118,6 @@ impl PivotedQr {
 /// above the rounding of a unit-diagonal Gram matrix (~1e-15), far below any direction that
 /// changes a fit (common practice for rank decisions on normal equations; Golub & Van Loan §5.3.7).
 pub const DEPENDENT_PIVOT: f64 = 1e-12;
-
-/// Σ aᵢbᵢ with independent partial sums, so the compiler can vectorise it (a single running sum
-/// cannot be reordered).
-pub fn dot(a: &[f64], b: &[f64]) -> f64 {
-    let n = a.len().min(b.len());
-    let (a, b) = (&a[..n], &b[..n]);
-    let mut acc = [0.0f64; 8];
-    let (ca, cb) = (a.chunks_exact(8), b.chunks_exact(8));
-    let tail: f64 = ca
-        .remainder()
-        .iter()
-        .zip(cb.remainder())
-        .map(|(x, y)| x * y)
-        .sum();
-    for (x, y) in ca.zip(cb) {
-        for k in 0..8 {
-            acc[k] += x[k] * y[k];
-        }
-    }
-    ((acc[0] + acc[4]) + (acc[2] + acc[6])) + ((acc[1] + acc[5]) + (acc[3] + acc[7])) + tail
-}
 
 /// Cholesky factor of a Gram matrix G = AᵀA for the normal equations AᵀA·x = Aᵀb, for small
 /// linear fits that are re-solved many times with changing columns (Lin-KK). G is scaled to unit

@@ -3,6 +3,7 @@
 
 pub mod analysis;
 pub mod build_report;
+pub mod dot;
 pub mod engine;
 pub mod kk;
 pub mod kk_resonance;
@@ -11,6 +12,7 @@ pub mod lstsq;
 pub mod normal_equations;
 pub mod problem;
 pub mod report;
+pub mod rolling_median;
 pub mod sanity;
 pub mod screen;
 pub mod serial;

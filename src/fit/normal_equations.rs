@@ -8,6 +8,7 @@
 //! keeps the factorisation's pivots meaningful, so a singular matrix is told apart from a
 //! badly scaled one.
 
+use super::dot::dot;
 use ndarray::{Array1, Array2};
 
 /// A pivot of the unit-diagonal matrix below this is treated as zero: the columns are then
@@ -105,22 +106,38 @@ impl Cholesky {
 
 /// JᵀJ for a Jacobian with one row per residual. A column-major Jacobian (long contiguous
 /// columns, the layout [`crate::fit::problem::MuProblem`] returns) is reduced by contiguous
-/// column dot products over the lower triangle, which vectorise; any other layout by matrix
-/// product.
+/// column dot products over the lower triangle ([`dot`], vectorised); any other layout by
+/// matrix product.
 pub fn gram(j: &Array2<f64>) -> Array2<f64> {
-    if !j.t().is_standard_layout() {
+    let Some(cols) = contiguous_columns(j) else {
         return j.t().dot(j);
-    }
-    let n = j.ncols();
+    };
+    let n = cols.len();
     let mut g = Array2::zeros((n, n));
     for a in 0..n {
         for b in 0..=a {
-            let v = j.column(a).dot(&j.column(b));
+            let v = dot(cols[a], cols[b]);
             g[[a, b]] = v;
             g[[b, a]] = v;
         }
     }
     g
+}
+
+/// Jᵀv, the gradient Jᵀr of the cost: one [`dot`] per column of a column-major J.
+pub fn jac_t_times(j: &Array2<f64>, v: &Array1<f64>) -> Array1<f64> {
+    match (contiguous_columns(j), v.as_slice()) {
+        (Some(cols), Some(v)) => cols.iter().map(|c| dot(c, v)).collect(),
+        _ => j.t().dot(v),
+    }
+}
+
+/// The columns of `j` as slices, if each is contiguous in memory (column-major layout).
+fn contiguous_columns(j: &Array2<f64>) -> Option<Vec<&[f64]>> {
+    if !j.t().is_standard_layout() {
+        return None;
+    }
+    (0..j.ncols()).map(|c| j.column(c).to_slice()).collect()
 }
 
 /// out += α·J·v. A column-major J is added column by column (contiguous axpy updates);

@@ -71,7 +71,7 @@ pub struct SourceProvenance {
 }
 
 /// The residual at one frequency, relative complex error (model − measured)/|measured|.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, Copy, Default, PartialEq, Serialize, Deserialize)]
 pub struct ResidualPoint {
     pub freq_hz: f64,
     pub re: f64,

@@ -3,6 +3,7 @@
 //! ferrite's static permeability and loss-peak frequency obey Snoek's product
 //! (μ_s − 1)·f_r ≈ (2/3)·(γ/2π)·J_s.
 
+use super::rolling_median::window_medians;
 use super::synthetic::log_freqs;
 use crate::model::Model;
 use crate::C64;
@@ -135,38 +136,28 @@ pub fn band(spectra: &[Spectrum]) -> Option<(f64, f64)> {
 /// three of the differences. A systematic offset (a phase error) leaves no trace here.
 pub fn local_scatter(freq_hz: &[f64], mu: &[C64]) -> Vec<Option<f64>> {
     let n = freq_hz.len().min(mu.len());
+    let log_f: Vec<f64> = freq_hz[..n].iter().map(|f| f.ln()).collect();
     let rel: Vec<Option<f64>> = (0..n)
         .map(|i| {
             if i == 0 || i + 1 >= n {
                 return None;
             }
-            let (a, b, c) = (freq_hz[i - 1].ln(), freq_hz[i].ln(), freq_hz[i + 1].ln());
-            if !(a < b && b < c) || mu[i].norm() == 0.0 {
+            let (a, b, c) = (log_f[i - 1], log_f[i], log_f[i + 1]);
+            // √ of squared norms rather than hypot: μ of a core is far from the over- and
+            // underflow limits hypot guards against, and this runs at every point of every fit.
+            let size_sqr = mu[i].norm_sqr();
+            if !(a < b && b < c) || size_sqr == 0.0 {
                 return None;
             }
             let w = (c - b) / (c - a);
             let d = mu[i] - (mu[i - 1] * w + mu[i + 1] * (1.0 - w));
-            let gain = (1.0 + w * w + (1.0 - w) * (1.0 - w)).sqrt();
-            Some(d.norm() / (gain * mu[i].norm()))
+            let gain_sqr = 1.0 + w * w + (1.0 - w) * (1.0 - w);
+            Some((d.norm_sqr() / (gain_sqr * size_sqr)).sqrt())
         })
         .collect();
-    (0..n)
-        .map(|i| {
-            let lo = i.saturating_sub(SCATTER_HALF_WINDOW);
-            let hi = (i + SCATTER_HALF_WINDOW + 1).min(n);
-            let mut around: Vec<f64> = rel[lo..hi].iter().flatten().copied().collect();
-            if around.len() < MIN_SCATTER_POINTS {
-                return None;
-            }
-            around.sort_by(f64::total_cmp);
-            let m = around.len();
-            let median = if m % 2 == 1 {
-                around[m / 2]
-            } else {
-                0.5 * (around[m / 2 - 1] + around[m / 2])
-            };
-            Some(median / RAYLEIGH_MEDIAN)
-        })
+    window_medians(&rel, SCATTER_HALF_WINDOW, MIN_SCATTER_POINTS)
+        .into_iter()
+        .map(|median| median.map(|m| m / RAYLEIGH_MEDIAN))
         .collect()
 }
 
@@ -189,8 +180,9 @@ fn negative_measured_loss(spectra: &[Spectrum]) -> Option<String> {
     for (f, mu) in spectra {
         total += mu.len();
         for ((&fi, m), a) in f.iter().zip(*mu).zip(negative_loss_allowance(f, mu)) {
-            if -m.im < -a * m.norm() {
-                bad.push((fi, -m.im, a * m.norm()));
+            // Only a positive imaginary part (μ″ < 0) can fail; |μ| from its square (as above).
+            if m.im > 0.0 && m.im > a * m.norm_sqr().sqrt() {
+                bad.push((fi, -m.im, a * m.norm_sqr().sqrt()));
             }
         }
     }

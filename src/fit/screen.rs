@@ -6,8 +6,8 @@
 //! become starts. This finds the basins the feature-based starts can miss (a small resonance in
 //! the tail of a large relaxation, overlapping peaks).
 
+use super::dot::dot;
 use super::engine::thinned;
-use super::lstsq::dot;
 use crate::model::{Model, Term, TermKind};
 use crate::C64;
 

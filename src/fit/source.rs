@@ -76,12 +76,25 @@ impl SourceData {
 /// All sources' points merged in ascending frequency (stable, so equal frequencies keep the
 /// sources' order): the data a shared model is fitted to.
 pub fn merged(sources: &[SourceData]) -> (Vec<f64>, Vec<C64>) {
-    let mut pts: Vec<(f64, C64)> = sources
+    let all = concatenated(sources);
+    merge_order(sources).into_iter().map(|k| all[k]).unzip()
+}
+
+/// The merge as a permutation: merged point `k` is point `order[k]` of the sources' points
+/// taken source by source. A fit's per-point results (residuals) map back to their sources by
+/// it, instead of being computed again.
+pub fn merge_order(sources: &[SourceData]) -> Vec<usize> {
+    let freq: Vec<f64> = concatenated(sources).into_iter().map(|p| p.0).collect();
+    let mut order: Vec<usize> = (0..freq.len()).collect();
+    order.sort_by(|&a, &b| freq[a].total_cmp(&freq[b]));
+    order
+}
+
+fn concatenated(sources: &[SourceData]) -> Vec<(f64, C64)> {
+    sources
         .iter()
         .flat_map(|s| s.freq_hz.iter().copied().zip(s.mu.iter().copied()))
-        .collect();
-    pts.sort_by(|a, b| a.0.total_cmp(&b.0));
-    pts.into_iter().unzip()
+        .collect()
 }
 
 #[cfg(test)]

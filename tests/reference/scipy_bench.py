@@ -55,7 +55,7 @@ def main():
     ap.add_argument("--points", type=int, default=1601)
     ap.add_argument("--seed", type=int, default=1)
     ap.add_argument("--noise", type=float, default=0.005)
-    ap.add_argument("--runs", type=int, default=3, help="passes over the lot; the median time is recorded")
+    ap.add_argument("--runs", type=int, default=5, help="passes over the lot; the median time is recorded")
     args = ap.parse_args()
 
     with tempfile.TemporaryDirectory() as tmp:
