@@ -21,6 +21,7 @@ pub mod plot;
 pub mod predict;
 pub mod export;
 pub mod units;
+pub mod wide;
 pub mod cli;
 
 /// Complex numbers throughout: `re − j·im` conventions are spelled out where they matter.

@@ -2,30 +2,18 @@
 //! Kramers–Kronig check spend most of their arithmetic in.
 //!
 //! Eight independent partial sums let the compiler vectorise the loop (a single running sum
-//! cannot be reordered). The same code is also compiled for AVX2 and chosen at run time where
-//! the processor has it: the portable build targets baseline x86-64 (two doubles per
-//! instruction), and one binary has to run on every bench PC. Both builds add the same products
-//! into the same eight sums in the same order — the vector width only packs the sums into
-//! registers, and no multiply–add is fused — so the result is bit for bit the same on every
-//! machine.
+//! cannot be reordered); [`crate::wide::wide`] runs it four wide where the processor can. Every
+//! build adds the same products into the same eight sums in the same order, so the result is
+//! bit for bit the same on every machine.
+
+use crate::wide::wide;
 
 /// Σ aᵢbᵢ over the common length of `a` and `b`.
 pub fn dot(a: &[f64], b: &[f64]) -> f64 {
-    #[cfg(target_arch = "x86_64")]
-    {
-        if std::arch::is_x86_feature_detected!("avx2") {
-            // SAFETY: the processor was just found to support AVX2, the only requirement of
-            // `dot_avx2` beyond those of `partial_sums` (none).
-            return unsafe { dot_avx2(a, b) };
-        }
-    }
-    partial_sums(a, b)
-}
-
-#[cfg(target_arch = "x86_64")]
-#[target_feature(enable = "avx2")]
-unsafe fn dot_avx2(a: &[f64], b: &[f64]) -> f64 {
-    partial_sums(a, b)
+    wide(
+        #[inline(always)]
+        || partial_sums(a, b),
+    )
 }
 
 #[inline(always)]
@@ -64,7 +52,7 @@ mod tests {
         }
     }
 
-    /// The dispatched and the portable build give the same bits on inexact data.
+    /// The wide and the portable build give the same bits on inexact data.
     #[test]
     fn every_build_gives_the_same_bits() {
         let a: Vec<f64> = (0..1001).map(|k| (k as f64 * 0.37).sin()).collect();

@@ -44,6 +44,7 @@ use super::report::KkReport;
 use super::synthetic::log_freqs;
 use super::FitError;
 use crate::error::Diagnostic;
+use crate::wide::wide;
 use crate::C64;
 use std::f64::consts::PI;
 
@@ -118,6 +119,14 @@ enum BasisFn {
 impl BasisFn {
     /// (Re, Im) of the function at each frequency, added `coeff` times to (`re`, `im`).
     fn add_to(self, coeff: f64, freq_hz: &[f64], re: &mut [f64], im: &mut [f64]) {
+        wide(
+            #[inline(always)]
+            || self.add_to_plain(coeff, freq_hz, re, im),
+        )
+    }
+
+    #[inline(always)]
+    fn add_to_plain(self, coeff: f64, freq_hz: &[f64], re: &mut [f64], im: &mut [f64]) {
         let points = freq_hz.iter().zip(re.iter_mut().zip(im.iter_mut()));
         match self {
             BasisFn::Constant => re.iter_mut().for_each(|r| *r += coeff),
@@ -178,12 +187,10 @@ impl Data {
         let mut col = vec![0.0; 2 * n];
         let (re, im) = col.split_at_mut(n);
         b.add_to(1.0, &self.freq_hz, re, im);
-        for (c, w) in re
-            .iter_mut()
-            .chain(im.iter_mut())
-            .zip(self.weight.iter().cycle())
-        {
-            *c *= w;
+        for part in [re, im] {
+            for (c, w) in part.iter_mut().zip(&self.weight) {
+                *c *= w;
+            }
         }
         col
     }

@@ -42,19 +42,23 @@ impl Term {
         let inv_fr = 1.0 / self.f_hz;
         let with_grad = grad.is_some();
         let fractional = |f: f64| self.fractional_at(inv_fr, f * inv_fr, with_grad);
-        match self.kind {
-            TermKind::Debye => columns(f_hz, re, im, grad, |f| {
-                debye_at(self.delta_mu, inv_fr, f * inv_fr)
-            }),
-            TermKind::Lorentz => columns(f_hz, re, im, grad, |f| {
-                lorentz_at(self.delta_mu, inv_fr, self.damping, f * inv_fr)
-            }),
-            TermKind::ColeCole | TermKind::ColeDavidson => columns(f_hz, re, im, grad, |f| {
-                let (t, g) = fractional(f);
-                (t, [g[0], g[1], g[2]])
-            }),
-            TermKind::HavriliakNegami => columns(f_hz, re, im, grad, fractional),
-        }
+        // Four wide where the processor can (the Debye and resonance loops vectorise).
+        crate::wide::wide(
+            #[inline(always)]
+            || match self.kind {
+                TermKind::Debye => columns(f_hz, re, im, grad, |f| {
+                    debye_at(self.delta_mu, inv_fr, f * inv_fr)
+                }),
+                TermKind::Lorentz => columns(f_hz, re, im, grad, |f| {
+                    lorentz_at(self.delta_mu, inv_fr, self.damping, f * inv_fr)
+                }),
+                TermKind::ColeCole | TermKind::ColeDavidson => columns(f_hz, re, im, grad, |f| {
+                    let (t, g) = fractional(f);
+                    (t, [g[0], g[1], g[2]])
+                }),
+                TermKind::HavriliakNegami => columns(f_hz, re, im, grad, fractional),
+            },
+        )
     }
 
     /// Value, and with `grad` the derivatives.
