@@ -224,6 +224,14 @@ impl NormalEquations {
         .extended(&[], cols, b)
     }
 
+    /// Equations whose Gram matrix AᵀA (`g`, row-major k×k) and Aᵀb (`h`, length k) were
+    /// formed some other way (in closed form, say).
+    pub fn from_parts(g: Vec<f64>, h: Vec<f64>) -> NormalEquations {
+        let k = h.len();
+        assert_eq!(g.len(), k * k, "a {k}×{k} Gram matrix");
+        NormalEquations { k, g, h }
+    }
+
     /// These equations (of the columns `cols`) with the columns `more` appended.
     pub fn extended(&self, cols: &[Vec<f64>], more: &[Vec<f64>], b: &[f64]) -> NormalEquations {
         debug_assert_eq!(cols.len(), self.k);
@@ -261,6 +269,16 @@ impl NormalEquations {
     pub fn solve(&self, subset: &[usize]) -> Vec<f64> {
         let rhs: Vec<f64> = subset.iter().map(|&i| self.h[i]).collect();
         self.factor(subset).solve(&rhs)
+    }
+
+    /// AᵀA, row-major.
+    pub fn gram(&self) -> &[f64] {
+        &self.g
+    }
+
+    /// Aᵀb.
+    pub fn products_with_rhs(&self) -> &[f64] {
+        &self.h
     }
 
     /// Number of columns.

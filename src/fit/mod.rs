@@ -12,7 +12,6 @@ pub mod lstsq;
 pub mod normal_equations;
 pub mod problem;
 pub mod report;
-pub mod rolling_median;
 pub mod sanity;
 pub mod screen;
 pub mod serial;

@@ -3,7 +3,6 @@
 //! ferrite's static permeability and loss-peak frequency obey Snoek's product
 //! (μ_s − 1)·f_r ≈ (2/3)·(γ/2π)·J_s.
 
-use super::rolling_median::window_medians;
 use super::synthetic::log_freqs;
 use crate::model::Model;
 use crate::C64;
@@ -135,16 +134,25 @@ pub fn band(spectra: &[Spectrum]) -> Option<(f64, f64)> {
 /// divided by the Rayleigh median — robust to the outlier being judged, which disturbs only
 /// three of the differences. A systematic offset (a phase error) leaves no trace here.
 pub fn local_scatter(freq_hz: &[f64], mu: &[C64]) -> Vec<Option<f64>> {
+    let ratios = scatter_ratios(freq_hz, mu);
+    (0..ratios.len())
+        .map(|i| scatter_around(&ratios, i))
+        .collect()
+}
+
+/// |d_i| / (√(1 + w² + (1 − w)²)·|μ_i|) at each point (see [`local_scatter`]); `None` at the
+/// ends and where the frequencies do not increase or μ is 0.
+fn scatter_ratios(freq_hz: &[f64], mu: &[C64]) -> Vec<Option<f64>> {
     let n = freq_hz.len().min(mu.len());
     let log_f: Vec<f64> = freq_hz[..n].iter().map(|f| f.ln()).collect();
-    let rel: Vec<Option<f64>> = (0..n)
+    (0..n)
         .map(|i| {
             if i == 0 || i + 1 >= n {
                 return None;
             }
             let (a, b, c) = (log_f[i - 1], log_f[i], log_f[i + 1]);
             // √ of squared norms rather than hypot: μ of a core is far from the over- and
-            // underflow limits hypot guards against, and this runs at every point of every fit.
+            // underflow limits hypot guards against.
             let size_sqr = mu[i].norm_sqr();
             if !(a < b && b < c) || size_sqr == 0.0 {
                 return None;
@@ -154,23 +162,38 @@ pub fn local_scatter(freq_hz: &[f64], mu: &[C64]) -> Vec<Option<f64>> {
             let gain_sqr = 1.0 + w * w + (1.0 - w) * (1.0 - w);
             Some((d.norm_sqr() / (gain_sqr * size_sqr)).sqrt())
         })
-        .collect();
-    window_medians(&rel, SCATTER_HALF_WINDOW, MIN_SCATTER_POINTS)
-        .into_iter()
-        .map(|median| median.map(|m| m / RAYLEIGH_MEDIAN))
         .collect()
 }
 
-/// How far below zero measured μ″ may go at each point, as a fraction of |μ|: the phase floor,
-/// or [`NOISE_SIGMAS`] local standard deviations where the noise is larger, or
+/// The local scatter at point `i` from the `ratios` of [`scatter_ratios`] within
+/// [`SCATTER_HALF_WINDOW`] of it: their median over the Rayleigh median.
+fn scatter_around(ratios: &[Option<f64>], i: usize) -> Option<f64> {
+    let lo = i.saturating_sub(SCATTER_HALF_WINDOW);
+    let hi = (i + SCATTER_HALF_WINDOW + 1).min(ratios.len());
+    let mut around = [0.0f64; 2 * SCATTER_HALF_WINDOW + 1];
+    let mut m = 0;
+    for r in ratios[lo..hi].iter().flatten() {
+        around[m] = *r;
+        m += 1;
+    }
+    if m < MIN_SCATTER_POINTS {
+        return None;
+    }
+    let around = &mut around[..m];
+    around.sort_unstable_by(f64::total_cmp);
+    let median = if m % 2 == 1 {
+        around[m / 2]
+    } else {
+        0.5 * (around[m / 2 - 1] + around[m / 2])
+    };
+    Some(median / RAYLEIGH_MEDIAN)
+}
+
+/// How far below zero measured μ″ may go at a point, as a fraction of |μ|: the phase floor, or
+/// [`NOISE_SIGMAS`] local standard deviations where the noise is larger, or
 /// [`UNKNOWN_SCATTER_TOLERANCE`] where the scatter cannot be estimated.
-pub fn negative_loss_allowance(freq_hz: &[f64], mu: &[C64]) -> Vec<f64> {
-    local_scatter(freq_hz, mu)
-        .into_iter()
-        .map(|s| {
-            NEGATIVE_LOSS_TOLERANCE.max(s.map_or(UNKNOWN_SCATTER_TOLERANCE, |s| NOISE_SIGMAS * s))
-        })
-        .collect()
+fn negative_loss_allowance(scatter: Option<f64>) -> f64 {
+    NEGATIVE_LOSS_TOLERANCE.max(scatter.map_or(UNKNOWN_SCATTER_TOLERANCE, |s| NOISE_SIGMAS * s))
 }
 
 fn negative_measured_loss(spectra: &[Spectrum]) -> Option<String> {
@@ -179,10 +202,17 @@ fn negative_measured_loss(spectra: &[Spectrum]) -> Option<String> {
     let mut total = 0;
     for (f, mu) in spectra {
         total += mu.len();
-        for ((&fi, m), a) in f.iter().zip(*mu).zip(negative_loss_allowance(f, mu)) {
-            // Only a positive imaginary part (μ″ < 0) can fail; |μ| from its square (as above).
-            if m.im > 0.0 && m.im > a * m.norm_sqr().sqrt() {
-                bad.push((fi, -m.im, a * m.norm_sqr().sqrt()));
+        let ratios = scatter_ratios(f, mu);
+        for (i, (&fi, m)) in f.iter().zip(*mu).enumerate() {
+            // |μ| from its square (as above). The allowance is at least the phase floor, so the
+            // local scatter is looked up only at points below that.
+            let size = m.norm_sqr().sqrt();
+            if !(m.im > NEGATIVE_LOSS_TOLERANCE * size) {
+                continue;
+            }
+            let a = negative_loss_allowance(scatter_around(&ratios, i));
+            if m.im > a * size {
+                bad.push((fi, -m.im, a * size));
             }
         }
     }
