@@ -16,7 +16,7 @@
 
 use super::Failure;
 use crate::fit::analysis::{analyse, Analysis, FitRequest, ModelChoice};
-use crate::fit::build_report::SourceData;
+use crate::fit::build_report::{build_report, SourceData};
 use crate::fit::engine::{fit_from_starts, fit_model, starts_for, FitOptions, FitOutcome};
 use crate::fit::kk::lin_kk;
 use crate::fit::problem::MuProblem;
@@ -100,17 +100,39 @@ fn fit_err(e: FitError) -> Failure {
     Failure::input(format!("bench fit failed: {e}"))
 }
 
-/// The whole process for one sweep, as `mucurve fit` runs it.
-fn whole_process(i: usize, s: &SyntheticSweep, request: &FitRequest) -> Result<Analysis, FitError> {
-    let src = SourceData {
+/// Sweep `i` of the lot as the fit stage's input.
+fn source_of(i: usize, s: &SyntheticSweep) -> SourceData {
+    SourceData {
         label: format!("sweep-{i}"),
         freq_hz: s.freq_hz.clone(),
         mu: s.mu.clone(),
         provenance: vec![],
         warnings: vec![],
         sanity: vec![],
-    };
-    analyse(std::slice::from_ref(&src), request)
+    }
+}
+
+/// The whole process for one sweep, as `mucurve fit` runs it.
+fn whole_process(i: usize, s: &SyntheticSweep, request: &FitRequest) -> Result<Analysis, FitError> {
+    analyse(std::slice::from_ref(&source_of(i, s)), request)
+}
+
+/// One pass over the lot on this thread, the stages of [`whole_process`] timed one by one:
+/// seconds in the Lin-KK check, the fit, and the sanity checks with the report.
+fn stage_times(lot: &[SyntheticSweep], request: &FitRequest) -> Result<[f64; 3], FitError> {
+    let mut t = [0.0; 3];
+    for (i, s) in lot.iter().enumerate() {
+        let (kk, dt) = timed(|| lin_kk(&s.freq_hz, &s.mu));
+        t[0] += dt;
+        let (outcome, dt) = timed(|| fit_model(&s.freq_hz, &s.mu, &KINDS, &request.options));
+        t[1] += dt;
+        let (kk, outcome) = (kk?.report, outcome?);
+        let src = source_of(i, s);
+        let sources = std::slice::from_ref(&src);
+        let (_, dt) = timed(|| build_report(&outcome, sources, &[kk], request.js, None));
+        t[2] += dt;
+    }
+    Ok(t)
 }
 
 /// What tests/reference/scipy_bench.py recorded.
@@ -245,17 +267,12 @@ pub fn run(args: Args) -> Result<(), Failure> {
     let (whole, t_whole) = timed_runs(args.runs, whole_lot);
     let whole = whole.map_err(fit_err)?;
     // Where the time of the whole process goes, one thread, stage by stage.
-    let (_, t_kk) = timed_runs(args.runs, || {
-        lot.iter()
-            .filter(|s| lin_kk(&s.freq_hz, &s.mu).is_ok())
-            .count()
-    });
-    let (_, t_seq) = timed_runs(args.runs, || {
-        lot.iter()
-            .enumerate()
-            .filter(|(i, s)| whole_process(*i, s, &request).is_ok())
-            .count()
-    });
+    let stages: Vec<[f64; 3]> = (0..args.runs.max(1))
+        .map(|_| stage_times(&lot, &request))
+        .collect::<Result<_, _>>()
+        .map_err(fit_err)?;
+    let stage = |k: usize| median(stages.iter().map(|s| s[k]).collect());
+    let (t_kk, t_fit, t_report) = (stage(0), stage(1), stage(2));
     let ms = |t: f64| 1e3 * t / n;
     let threads = rayon::current_num_threads();
     println!(
@@ -277,11 +294,11 @@ pub fn run(args: Args) -> Result<(), Failure> {
         ms(t_whole)
     );
     println!(
-        "  per sweep on one thread: fit {:.3} ms, Lin-KK {:.3} ms, sanity and report {:.3} ms; whole {:.3} ms",
-        ms(t_pipe),
+        "  per sweep on one thread, stage by stage: Lin-KK {:.3} ms, fit {:.3} ms, sanity and report {:.3} ms; together {:.3} ms",
         ms(t_kk),
-        ms(t_seq - t_pipe - t_kk),
-        ms(t_seq)
+        ms(t_fit),
+        ms(t_report),
+        ms(t_kk + t_fit + t_report)
     );
     let quick = pipeline.iter().filter(|o| !o.multi_start).count();
     let by_first = pipeline
