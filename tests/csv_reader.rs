@@ -10,15 +10,14 @@
 //!   Z = 100 Ω ↔ S11 = 1/3, 50+j50 Ω ↔ 0.2+j0.4, 25 Ω ↔ −1/3; series 100 Ω ↔ S21 = 0.5,
 //!   j100 Ω ↔ 0.5−j0.5, 300 Ω ↔ 0.25) are worked by hand from those formulas.
 
+mod common;
+use common::tolerance::CSV_ARITHMETIC_REL;
+
 use mucurve::ingest::convert::{s11_to_z, s21_series_to_z};
 use mucurve::ingest::{csv_table, IngestError, ReadOptions, SourceInfo, Sweep, SweepData};
 use mucurve::C64;
 use std::f64::consts::{FRAC_1_SQRT_2, PI};
 use std::path::PathBuf;
-
-/// Issue #2, "Done when": every CSV style reads to the same impedance as direct arithmetic,
-/// relative 1e-6.
-const REL: f64 = 1e-6;
 
 fn path(name: &str) -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR"))
@@ -43,7 +42,7 @@ fn read(name: &str) -> Sweep {
 fn assert_close(actual: C64, expected: C64, what: &str) {
     let err = (actual - expected).norm();
     assert!(
-        err <= REL * expected.norm(),
+        err <= CSV_ARITHMETIC_REL * expected.norm(),
         "{}: got {}, expected {} (|error| {:e})",
         what,
         actual,
@@ -56,7 +55,7 @@ fn assert_freqs(sweep: &Sweep, expected_hz: &[f64]) {
     assert_eq!(sweep.freq_hz.len(), expected_hz.len(), "point count");
     for (got, want) in sweep.freq_hz.iter().zip(expected_hz) {
         assert!(
-            (got - want).abs() <= REL * want,
+            (got - want).abs() <= CSV_ARITHMETIC_REL * want,
             "frequency {} Hz, expected {} Hz",
             got,
             want

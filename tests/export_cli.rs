@@ -6,6 +6,7 @@
 mod common;
 mod library_fixture;
 
+use common::tolerance::ROUND_TRIP_REL;
 use common::{mucurve_in, Run, Scratch};
 use library_fixture as fx;
 use mucurve::extract::read_mu_table;
@@ -18,8 +19,6 @@ use std::f64::consts::{PI, TAU};
 
 /// μ0, H/m (CODATA 2018).
 const MU0: f64 = 1.256_637_062_12e-6;
-/// Touchstone round trip (read back, S → Z): PHYSICS.md §3 inverses, shortest decimals.
-const ROUND_TRIP_REL: f64 = 1e-9;
 
 fn run(s: &Scratch, args: &[&str]) -> Run {
     mucurve_in(s.dir.path(), args)

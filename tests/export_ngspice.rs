@@ -13,6 +13,7 @@
 mod common;
 mod library_fixture;
 
+use common::tolerance::NGSPICE_ABS_Z_REL;
 use common::{mucurve_in, Scratch};
 use library_fixture as fx;
 use mucurve::extract::winding::{impedance_at, Winding};
@@ -22,8 +23,6 @@ use mucurve::C64;
 use std::path::Path;
 use std::process::Command;
 
-/// The acceptance limit on |Z|, ngspice against the model.
-const ABS_Z_REL: f64 = 0.01;
 /// Points per decade of the AC sweep.
 const PER_DECADE: usize = 50;
 
@@ -138,7 +137,7 @@ fn check(model: &Model, core: &str, winding: Winding, extra: &[&str]) {
         let want = impedance_at(f, model.mu(f), &core, &winding).norm();
         let rel = (z.norm() - want).abs() / want;
         assert!(
-            rel < ABS_Z_REL,
+            rel < NGSPICE_ABS_Z_REL,
             "{f} Hz: ngspice |Z| = {} Ω, model {} Ω",
             z.norm(),
             want

@@ -6,6 +6,9 @@
 
 mod common;
 
+use common::tolerance::{
+    BENCH_TOLERANCE, EXACT_TOLERANCE, NAIVE_FACTOR, NOISY_S_TOLERANCE, SOLVED_TOLERANCE,
+};
 use common::{mucurve_in, Scratch};
 use mucurve::extract::{impedance, read_mu_table, MuTable, Winding};
 use mucurve::geometry::Core;
@@ -13,18 +16,6 @@ use mucurve::ingest::convert;
 use mucurve::model::{Model, Term};
 use mucurve::C64;
 use std::path::{Path, PathBuf};
-
-/// Worst relative error of μ tolerated for sweeps with 1e-4 noise on S (a calibrated analyser,
-/// common practice) and for noise-free impedance files.
-const NOISY_S_TOLERANCE: f64 = 0.01;
-const EXACT_TOLERANCE: f64 = 1e-6;
-/// Lead solved from two noisy windings: L_lead and μ within 3 %.
-const SOLVED_TOLERANCE: f64 = 0.03;
-/// ../shared/external bench check of issue 3: solved μ′ within 25 % of the 8-turn winding's.
-/// The same ±25 % is common practice for ferrite μ_i (PHYSICS.md §8).
-const BENCH_TOLERANCE: f64 = 0.25;
-/// "About twice off": the naive 1-turn μ′ must exceed the 8-turn one by at least this factor.
-const NAIVE_FACTOR: f64 = 1.6;
 
 /// An invented NiZn-like material: μ∞ 2 plus a Debye relaxation of 300 at 20 MHz (PHYSICS.md §4).
 fn material() -> Model {

@@ -14,6 +14,7 @@
 
 mod common;
 
+use common::tolerance::{COST_RTOL, IDENTITY_REL_TOL, WITHIN_STDERR};
 use common::{mucurve_in, Scratch};
 use mucurve::fit::engine::{fit_auto, fit_model, FitOptions, FitOutcome};
 use mucurve::fit::synthetic::{
@@ -23,16 +24,9 @@ use mucurve::model::{Model, Term, TermKind};
 use mucurve::C64;
 use std::f64::consts::PI;
 
-/// Relative agreement of two evaluations of the same closed form in floating point.
-const IDENTITY_REL_TOL: f64 = 1e-12;
-/// Fitted parameters must lie within this many of their own standard errors of the truth
-/// (issue: fitting engine, "Done when").
-const WITHIN_STDERR: f64 = 4.0;
 /// Relative complex noise of the synthetic spectra, per component (a careful one-port
 /// measurement of a wound core reads |Z| to about 0.5 % [common practice]).
 const NOISE_REL: f64 = 0.005;
-/// A cost counts as higher than scipy's only beyond rounding of ½Σr².
-const COST_RTOL: f64 = 1e-9;
 
 fn loss(t: &Term, f: f64) -> f64 {
     -t.value(f).im

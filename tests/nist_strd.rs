@@ -13,18 +13,18 @@
 //! 2. scipy.optimize.least_squares(method="lm") on synthetic permeability spectra: the
 //!    committed reference tests/reference/scipy_lm.json, written by tests/reference/scipy_lm.py.
 
+mod common;
+use common::tolerance::{
+    NIST_PARAM_REL_TOL, NIST_STDERR_REL_TOL, SCIPY_COST_ROUNDING, SCIPY_PARAM_REL_TOL,
+    TRANSFORM_REL_TOL,
+};
+
 use argmin::core::{Error, Jacobian, Operator};
 use mucurve::fit::lm::{covariance, minimize, LeastSquares, LmConfig};
 use mucurve::fit::problem::MuProblem;
 use mucurve::model::{parse_spec, Model};
 use mucurve::C64;
 use ndarray::{Array1, Array2};
-
-/// Certified parameters and residual sum of squares: agreement to 6 significant digits
-/// (relative 1e-6; see the header for the source of the figure).
-const NIST_PARAM_REL_TOL: f64 = 1e-6;
-/// Certified standard deviations, also to 6 significant digits.
-const NIST_STDERR_REL_TOL: f64 = 1e-6;
 
 /// A NIST problem: y = model(b, x) + e, residual r = model − y, analytic Jacobian.
 struct Nist {
@@ -421,13 +421,6 @@ fn nist_rat43_both_starts_reach_certified_values() {
 
 // ---------------------------------------------------------------------------------------------
 // scipy cross-check on synthetic permeability spectra (tests/reference/scipy_lm.py).
-
-/// Parameters must match scipy's optimum to 1e-4 relative (issue: fitting engine, external checks).
-const SCIPY_PARAM_REL_TOL: f64 = 1e-4;
-/// "Cost not higher than scipy's", allowing for rounding in the last digits of ½Σr².
-const SCIPY_COST_ROUNDING: f64 = 1e-12;
-/// Our transforms must give scipy's internal start vector to rounding.
-const TRANSFORM_REL_TOL: f64 = 1e-13;
 
 #[derive(serde::Deserialize)]
 struct ScipyDoc {

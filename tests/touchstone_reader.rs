@@ -4,16 +4,15 @@
 //! names the versions) from the files in `tests/data/touchstone/`. A development check reads the
 //! conformance corpus in ../shared/external/touchstone/ when it is present.
 
+mod common;
+use common::tolerance::{TOUCHSTONE_ABS_FLOOR, TOUCHSTONE_SKRF_REL};
+
 use mucurve::ingest::touchstone::{self, Network};
 use mucurve::ingest::{ReadOptions, SourceInfo, SweepData};
 use mucurve::C64;
 use serde_json::Value;
 use std::path::{Path, PathBuf};
 
-/// Agreement required with scikit-rf: relative 1e-6 (issue 2, "Done when"); the absolute floor
-/// keeps entries that are zero in both readings comparable.
-const REL_TOL: f64 = 1e-6;
-const ABS_FLOOR: f64 = 1e-12;
 
 fn manifest_path(rel: &str) -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join(rel)
@@ -24,7 +23,7 @@ fn c64(v: &Value) -> C64 {
 }
 
 fn agree(a: C64, b: C64) -> bool {
-    (a - b).norm() <= REL_TOL * b.norm() + ABS_FLOOR
+    (a - b).norm() <= TOUCHSTONE_SKRF_REL * b.norm() + TOUCHSTONE_ABS_FLOOR
 }
 
 fn read_file(path: &Path) -> Result<Network, touchstone_err::E> {
@@ -50,7 +49,7 @@ fn compare(name: &str, net: &Network, reference: &Value, check_z0: bool) {
     assert_eq!(net.freq_hz.len(), freqs.len(), "{}: number of frequencies", name);
     for (a, b) in net.freq_hz.iter().zip(&freqs) {
         assert!(
-            (a - b).abs() <= REL_TOL * b.abs(),
+            (a - b).abs() <= TOUCHSTONE_SKRF_REL * b.abs(),
             "{}: frequency {} vs scikit-rf {}",
             name,
             a,

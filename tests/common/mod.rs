@@ -1,6 +1,8 @@
 //! The one harness every CLI test uses: runs the real `mucurve` binary in a scratch folder.
 #![allow(dead_code)]
 
+pub mod tolerance;
+
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 
