@@ -86,7 +86,7 @@ pub fn build_report(
     let sample_of: Vec<usize> = sources
         .iter()
         .enumerate()
-        .flat_map(|(sample, s)| std::iter::repeat(sample).take(s.freq_hz.len()))
+        .flat_map(|(sample, s)| std::iter::repeat_n(sample, s.freq_hz.len()))
         .collect();
     let all_freq: Vec<f64> = sources
         .iter()
