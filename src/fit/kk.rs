@@ -497,7 +497,7 @@ fn resonance_stage(fit_data: &Data) -> Scored {
             break;
         };
         resonances.push(seed);
-        resonances = kk_resonance::refine(&weighted, band, &resonances);
+        resonances = kk_resonance::refine(&weighted, &base_eqs, band, &resonances);
         best = better(best, solve(&resonances));
         if best.within(CONFIRMED) {
             break;

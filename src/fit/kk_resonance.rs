@@ -254,7 +254,14 @@ pub fn weighted_column(w: &Weighted, res: Resonance) -> Vec<f64> {
 
 /// Refine the resonances `start` (each inside the band and [`DAMPING_RANGE`]) so that, together
 /// with the fixed basis, they fit the data best; `start` itself when the solver fails.
-pub fn refine(w: &Weighted, band_hz: (f64, f64), start: &[Resonance]) -> Vec<Resonance> {
+/// `base_eqs` are the normal equations of the fixed basis columns `w.base` with `w.rhs`, which
+/// the caller has already formed.
+pub fn refine(
+    w: &Weighted,
+    base_eqs: &NormalEquations,
+    band_hz: (f64, f64),
+    start: &[Resonance],
+) -> Vec<Resonance> {
     let bounds = Bounds::new(band_hz);
     let cfg = LmConfig {
         max_iters: MAX_ITERS,
@@ -265,7 +272,7 @@ pub fn refine(w: &Weighted, band_hz: (f64, f64), start: &[Resonance]) -> Vec<Res
     };
     let problem = Problem {
         data: w,
-        base_eqs: NormalEquations::new(w.base, w.rhs),
+        base_eqs: base_eqs.clone(),
         bounds,
     };
     match minimize(problem, bounds.encode(start), &cfg) {
@@ -403,6 +410,7 @@ mod tests {
         let seed = best_seed(&w, &rhs, (1e5, 1e9), &[0.2, 0.5, 1.2], 2.0).unwrap();
         let got = refine(
             &w,
+            &NormalEquations::new(&base, &rhs),
             (1e5, 1e9),
             &[Resonance {
                 f_hz: seed.f_hz,

@@ -84,7 +84,10 @@ pub fn merged(sources: &[SourceData]) -> (Vec<f64>, Vec<C64>) {
 /// taken source by source. A fit's per-point results (residuals) map back to their sources by
 /// it, instead of being computed again.
 pub fn merge_order(sources: &[SourceData]) -> Vec<usize> {
-    let freq: Vec<f64> = concatenated(sources).into_iter().map(|p| p.0).collect();
+    let freq: Vec<f64> = sources
+        .iter()
+        .flat_map(|s| s.freq_hz.iter().copied())
+        .collect();
     let mut order: Vec<usize> = (0..freq.len()).collect();
     order.sort_by(|&a, &b| freq[a].total_cmp(&freq[b]));
     order
