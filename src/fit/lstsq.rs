@@ -365,10 +365,9 @@ fn apply_reflector(v: &[f64], t: f64, y: &mut [f64]) {
 mod tests {
     use super::*;
 
-    /// Straight-line fit y = a + b·x against the closed-form least-squares estimates
+    /// Six points of a straight line and its closed-form least-squares intercept a and slope b:
     /// b = Sxy/Sxx, a = ȳ − b·x̄ (Draper & Smith, Applied Regression Analysis, §1.2).
-    #[test]
-    fn straight_line_matches_closed_form_estimates() {
+    fn straight_line() -> ([f64; 6], [f64; 6], f64, f64) {
         let x = [0.0, 1.0, 2.0, 3.0, 4.0, 5.0];
         let y = [1.1, 2.9, 5.2, 7.1, 8.8, 11.2];
         let n = x.len() as f64;
@@ -376,7 +375,14 @@ mod tests {
         let sxx: f64 = x.iter().map(|v| (v - xm) * (v - xm)).sum();
         let sxy: f64 = x.iter().zip(&y).map(|(a, b)| (a - xm) * (b - ym)).sum();
         let b = sxy / sxx;
-        let a = ym - b * xm;
+        (x, y, ym - b * xm, b)
+    }
+
+    /// Straight-line fit y = a + b·x against the closed-form least-squares estimates
+    /// b = Sxy/Sxx, a = ȳ − b·x̄ (Draper & Smith, Applied Regression Analysis, §1.2).
+    #[test]
+    fn straight_line_matches_closed_form_estimates() {
+        let (x, y, a, b) = straight_line();
         let sol = lstsq(vec![vec![1.0; 6], x.to_vec()], &y, 1e-12);
         assert!(
             (sol[0] - a).abs() < 1e-12 && (sol[1] - b).abs() < 1e-12,
@@ -405,13 +411,7 @@ mod tests {
     /// (Draper & Smith §1.2), and a duplicated column is dropped, not amplified.
     #[test]
     fn gram_factor_solves_the_straight_line_and_drops_a_duplicate() {
-        let x = [0.0, 1.0, 2.0, 3.0, 4.0, 5.0];
-        let y = [1.1, 2.9, 5.2, 7.1, 8.8, 11.2];
-        let n = x.len() as f64;
-        let (xm, ym) = (x.iter().sum::<f64>() / n, y.iter().sum::<f64>() / n);
-        let sxx: f64 = x.iter().map(|v| (v - xm) * (v - xm)).sum();
-        let sxy: f64 = x.iter().zip(&y).map(|(a, b)| (a - xm) * (b - ym)).sum();
-        let (b, a) = (sxy / sxx, ym - sxy / sxx * xm);
+        let (x, y, a, b) = straight_line();
         let cols = [
             vec![1.0; 6],
             x.to_vec(),
